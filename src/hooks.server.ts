@@ -1,0 +1,64 @@
+import { randomUUID } from 'node:crypto';
+import type { Handle, HandleServerError, ServerInit } from '@sveltejs/kit';
+import { sequence } from '@sveltejs/kit/hooks';
+import { getConfig } from '$lib/server/config';
+import { database } from '$lib/server/db';
+import { prepareDatabase } from '$lib/server/startup';
+import { authenticate } from '$lib/server/auth/handle';
+import { isLocale, negotiateLocale } from '$lib/i18n';
+
+export const init: ServerInit = async () => {
+	// A port already in use surfaces as an uncaught 'listen' error from adapter-node's server.
+	process.on('uncaughtException', (err: NodeJS.ErrnoException) => {
+		if (err.code === 'EADDRINUSE') {
+			console.error(`Rimebook cannot start: port ${getConfig().PORT} is already in use. Fix: stop the other program or set PORT to a free port.`);
+		} else {
+			console.error('Rimebook stopped on an unexpected error:', err);
+		}
+		process.exit(1);
+	});
+	try {
+		const config = getConfig();
+		const { seeded } = await prepareDatabase(database);
+		const where = database.kind === 'pglite' ? `PGlite in ${config.RIMEBOOK_DATA_DIR}` : 'PostgreSQL server';
+		console.log(`[rimebook] database ready (${where})${seeded ? '; demo scenario seeded' : ''}`);
+	} catch (err) {
+		console.error(err instanceof Error ? err.message : err);
+		process.exit(1);
+	}
+	// adapter-node emits this on SIGTERM/SIGINT; an open PGlite would keep the process alive.
+	process.once('sveltekit:shutdown' as never, () => void database.close());
+};
+
+const requestId: Handle = ({ event, resolve }) => {
+	event.locals.requestId = randomUUID();
+	return resolve(event);
+};
+
+const locale: Handle = ({ event, resolve }) => {
+	const preferred = event.locals.user?.locale;
+	event.locals.locale = isLocale(preferred) ? preferred : negotiateLocale(event.request.headers.get('accept-language'));
+	return resolve(event, {
+		transformPageChunk: ({ html }) => html.replace('%lang%', event.locals.locale)
+	});
+};
+
+const securityHeaders: Handle = async ({ event, resolve }) => {
+	const response = await resolve(event);
+	const h = response.headers;
+	h.set('X-Content-Type-Options', 'nosniff');
+	h.set('Referrer-Policy', 'same-origin');
+	h.set('X-Frame-Options', 'DENY');
+	h.set('Cross-Origin-Opener-Policy', 'same-origin');
+	h.set('Permissions-Policy', 'camera=(self), microphone=(), geolocation=()');
+	h.set('X-Request-Id', event.locals.requestId);
+	if (event.url.pathname.startsWith('/api/')) h.set('Cache-Control', 'no-store');
+	return response;
+};
+
+export const handle = sequence(requestId, authenticate, locale, securityHeaders);
+
+export const handleError: HandleServerError = ({ error, event, status, message }) => {
+	if (status !== 404) console.error(`[${event.locals.requestId}] ${event.request.method} ${event.url.pathname}:`, error);
+	return { message: status === 404 ? 'Not found' : message, requestId: event.locals.requestId };
+};

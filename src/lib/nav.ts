@@ -1,0 +1,12 @@
+import type { Permission } from '$lib/domain/permissions';
+import type { Messages } from '$lib/i18n';
+
+/** The areas of the shell (design.md, "Look and words"), each shown to the roles that may open it. */
+export interface Area {
+	key: keyof Messages['shell']['areas'];
+	href: string;
+	permission: Permission;
+}
+
+// An area is listed here once its pages exist.
+export const areas: Area[] = [{ key: 'today', href: '/', permission: 'today.view' }];
