@@ -92,21 +92,6 @@ CREATE TABLE "audit_event" (
 	"hash" text NOT NULL
 );
 --> statement-breakpoint
-CREATE TABLE "signature" (
-	"id" text PRIMARY KEY NOT NULL,
-	"signer_id" text NOT NULL,
-	"printed_name" text NOT NULL,
-	"meaning" text NOT NULL,
-	"at" timestamp with time zone NOT NULL,
-	"time_zone" text NOT NULL,
-	"method" text NOT NULL,
-	"entity_type" text NOT NULL,
-	"entity_id" text NOT NULL,
-	"batch_id" text,
-	"content_hash" text NOT NULL,
-	"audit_seq" bigint
-);
---> statement-breakpoint
 CREATE TABLE "batch" (
 	"id" text PRIMARY KEY NOT NULL,
 	"number" text NOT NULL,
@@ -165,15 +150,30 @@ CREATE TABLE "material_lot" (
 	"created_at" timestamp with time zone DEFAULT now() NOT NULL
 );
 --> statement-breakpoint
+CREATE TABLE "signature" (
+	"id" text PRIMARY KEY NOT NULL,
+	"signer_id" text NOT NULL,
+	"printed_name" text NOT NULL,
+	"meaning" text NOT NULL,
+	"at" timestamp with time zone NOT NULL,
+	"time_zone" text NOT NULL,
+	"method" text NOT NULL,
+	"entity_type" text NOT NULL,
+	"entity_id" text NOT NULL,
+	"batch_id" text,
+	"content_hash" text NOT NULL,
+	"audit_seq" bigint
+);
+--> statement-breakpoint
 ALTER TABLE "api_token" ADD CONSTRAINT "api_token_user_id_user_id_fk" FOREIGN KEY ("user_id") REFERENCES "public"."user"("id") ON DELETE no action ON UPDATE no action;--> statement-breakpoint
 ALTER TABLE "passkey" ADD CONSTRAINT "passkey_user_id_user_id_fk" FOREIGN KEY ("user_id") REFERENCES "public"."user"("id") ON DELETE no action ON UPDATE no action;--> statement-breakpoint
 ALTER TABLE "session" ADD CONSTRAINT "session_user_id_user_id_fk" FOREIGN KEY ("user_id") REFERENCES "public"."user"("id") ON DELETE no action ON UPDATE no action;--> statement-breakpoint
 ALTER TABLE "user_role" ADD CONSTRAINT "user_role_user_id_user_id_fk" FOREIGN KEY ("user_id") REFERENCES "public"."user"("id") ON DELETE no action ON UPDATE no action;--> statement-breakpoint
-ALTER TABLE "signature" ADD CONSTRAINT "signature_signer_id_user_id_fk" FOREIGN KEY ("signer_id") REFERENCES "public"."user"("id") ON DELETE no action ON UPDATE no action;--> statement-breakpoint
 ALTER TABLE "batch" ADD CONSTRAINT "batch_master_record_id_master_record_id_fk" FOREIGN KEY ("master_record_id") REFERENCES "public"."master_record"("id") ON DELETE no action ON UPDATE no action;--> statement-breakpoint
 ALTER TABLE "batch" ADD CONSTRAINT "batch_issued_by_user_id_fk" FOREIGN KEY ("issued_by") REFERENCES "public"."user"("id") ON DELETE no action ON UPDATE no action;--> statement-breakpoint
 ALTER TABLE "master_record" ADD CONSTRAINT "master_record_created_by_user_id_fk" FOREIGN KEY ("created_by") REFERENCES "public"."user"("id") ON DELETE no action ON UPDATE no action;--> statement-breakpoint
 ALTER TABLE "material_lot" ADD CONSTRAINT "material_lot_material_id_material_id_fk" FOREIGN KEY ("material_id") REFERENCES "public"."material"("id") ON DELETE no action ON UPDATE no action;--> statement-breakpoint
+ALTER TABLE "signature" ADD CONSTRAINT "signature_signer_id_user_id_fk" FOREIGN KEY ("signer_id") REFERENCES "public"."user"("id") ON DELETE no action ON UPDATE no action;--> statement-breakpoint
 CREATE UNIQUE INDEX "api_token_hash_key" ON "api_token" USING btree ("token_hash");--> statement-breakpoint
 CREATE INDEX "passkey_user_idx" ON "passkey" USING btree ("user_id");--> statement-breakpoint
 CREATE INDEX "session_user_idx" ON "session" USING btree ("user_id");--> statement-breakpoint
@@ -184,11 +184,11 @@ CREATE INDEX "audit_event_batch_idx" ON "audit_event" USING btree ("batch_id","s
 CREATE INDEX "audit_event_entity_idx" ON "audit_event" USING btree ("entity_type","entity_id","seq");--> statement-breakpoint
 CREATE INDEX "audit_event_actor_idx" ON "audit_event" USING btree ("actor_id","seq");--> statement-breakpoint
 CREATE INDEX "audit_event_at_idx" ON "audit_event" USING btree ("at");--> statement-breakpoint
-CREATE INDEX "signature_entity_idx" ON "signature" USING btree ("entity_type","entity_id");--> statement-breakpoint
-CREATE INDEX "signature_batch_idx" ON "signature" USING btree ("batch_id");--> statement-breakpoint
 CREATE UNIQUE INDEX "batch_number_key" ON "batch" USING btree ("number");--> statement-breakpoint
 CREATE INDEX "batch_status_idx" ON "batch" USING btree ("status");--> statement-breakpoint
 CREATE UNIQUE INDEX "equipment_code_key" ON "equipment" USING btree ("code");--> statement-breakpoint
 CREATE UNIQUE INDEX "master_record_version_key" ON "master_record" USING btree ("code","version");--> statement-breakpoint
 CREATE UNIQUE INDEX "material_code_key" ON "material" USING btree ("code");--> statement-breakpoint
-CREATE UNIQUE INDEX "material_lot_number_key" ON "material_lot" USING btree ("material_id","lot_number");
+CREATE UNIQUE INDEX "material_lot_number_key" ON "material_lot" USING btree ("material_id","lot_number");--> statement-breakpoint
+CREATE INDEX "signature_entity_idx" ON "signature" USING btree ("entity_type","entity_id");--> statement-breakpoint
+CREATE INDEX "signature_batch_idx" ON "signature" USING btree ("batch_id");

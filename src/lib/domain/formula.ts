@@ -63,10 +63,10 @@ export type FormulaResult<T> = { ok: true; value: T } | { ok: false; issues: For
 /** A parsed formula that passed the structural allow-list; evaluate it many times. */
 export interface CompiledFormula {
 	readonly text: string;
-	/** Names the formula refers to (field keys, batch_size ...), in order of first use. */
+	/** Every name in the formula (field keys, batch_size, units), in order of first use. */
+	readonly symbols: readonly string[];
+	/** The names that are not units: what the formula needs values for. */
 	readonly references: readonly string[];
-	/** Unit names written in the formula. */
-	readonly units: readonly string[];
 	readonly node: MathNode;
 }
 
@@ -103,7 +103,7 @@ const math = create({
 	maxDependencies,
 	absDependencies,
 	sqrtDependencies
-});
+}, { predictable: true }); // predictable: sqrt(-1) is NaN (refused), never a complex number
 
 // NIST SP 811 App. B.8: 1 Torr = (101 325/760) Pa exactly; 1 mmHg (conventional) = 133.322 387 415 Pa.
 const TORR_IN_PA = 101325 / 760;
@@ -233,11 +233,11 @@ export function compileFormula(text: string): FormulaResult<CompiledFormula> {
 		return { ok: false, issues: [{ code: 'parse', message: `cannot be read: ${(e as Error).message}` }] };
 	}
 	const issues: FormulaIssue[] = [];
-	const references: string[] = [];
-	const units: string[] = [];
-	walk(node, issues, references, units);
+	const symbols: string[] = [];
+	walk(node, issues, symbols);
 	if (issues.length) return { ok: false, issues };
-	return { ok: true, value: { text, references, units, node } };
+	const references = symbols.filter((name) => !isUnitName(name));
+	return { ok: true, value: { text, symbols, references, node } };
 }
 
 function refusal(node: MathNode): string | null {
@@ -273,7 +273,7 @@ function refusal(node: MathNode): string | null {
 	}
 }
 
-function walk(node: MathNode, issues: FormulaIssue[], references: string[], units: string[]): void {
+function walk(node: MathNode, issues: FormulaIssue[], symbols: string[]): void {
 	const why = refusal(node);
 	if (why) {
 		issues.push({ code: 'not-allowed', message: why, at: node.toString() });
@@ -295,15 +295,13 @@ function walk(node: MathNode, issues: FormulaIssue[], references: string[], unit
 			const name = n.name as string;
 			if (isAllowedFunction(name)) {
 				issues.push({ code: 'not-allowed', message: `the function ${name} must be called with arguments`, at: name });
-			} else if (!references.includes(name) && !units.includes(name)) {
-				// Field keys are resolved later, against the caller's names; unit names are
-				// recorded here so a checker can tell "unknown name" from "unit".
-				(isUnitName(name) ? units : references).push(name);
+			} else if (!symbols.includes(name)) {
+				symbols.push(name); // resolved later: a caller's name first, else a unit
 			}
 			return;
 		}
 		case 'ParenthesisNode':
-			walk(n.content as MathNode, issues, references, units);
+			walk(n.content as MathNode, issues, symbols);
 			return;
 		case 'OperatorNode': {
 			const fn = n.fn as string;
@@ -315,7 +313,7 @@ function walk(node: MathNode, issues: FormulaIssue[], references: string[], unit
 				issues.push({ code: 'not-allowed', message: `the operator '${String(n.op)}' is not allowed`, at: node.toString() });
 				return;
 			}
-			for (const a of n.args as MathNode[]) walk(a, issues, references, units);
+			for (const a of n.args as MathNode[]) walk(a, issues, symbols);
 			return;
 		}
 		case 'FunctionNode': {
@@ -333,7 +331,7 @@ function walk(node: MathNode, issues: FormulaIssue[], references: string[], unit
 				});
 				return;
 			}
-			for (const a of n.args as MathNode[]) walk(a, issues, references, units);
+			for (const a of n.args as MathNode[]) walk(a, issues, symbols);
 			return;
 		}
 	}
@@ -419,12 +417,15 @@ export function checkFormula(
 	if (!compiled.ok) return { ok: false, issues: compiled.issues, references: [] };
 	const f = compiled.value;
 	const issues: FormulaIssue[] = [];
-	for (const name of f.references) {
-		if (!names.has(name)) issues.push({ code: 'unknown-name', message: `${name} is neither a field, a batch value nor a unit`, at: name });
+	const references = f.symbols.filter((name) => names.has(name));
+	for (const name of f.symbols) {
+		if (!names.has(name) && !isUnitName(name)) {
+			issues.push({ code: 'unknown-name', message: `${name} is neither a field, a batch value nor a unit`, at: name });
+		}
 	}
-	if (issues.length) return { ok: false, issues, references: [...f.references] };
+	if (issues.length) return { ok: false, issues, references };
 	const scope = new Map<string, Value>();
-	for (const name of f.references) scope.set(name, toValue({ value: 1, unit: names.get(name) ?? '' }));
+	for (const name of references) scope.set(name, toValue({ value: 1, unit: names.get(name) ?? '' }));
 	try {
 		const v = evaluateCompiled(f, scope);
 		const n = toNumberIn(v, resultUnit);
@@ -433,7 +434,7 @@ export function checkFormula(
 		if (!(e instanceof EvaluationError)) throw e;
 		if (e.issue.code !== 'not-finite') issues.push(e.issue);
 	}
-	return { ok: issues.length === 0, issues, references: [...f.references] };
+	return { ok: issues.length === 0, issues, references };
 }
 
 /** Evaluates a formula with the given values; the result is converted to `resultUnit`. */
@@ -454,8 +455,9 @@ export function evaluateFormula(
 	if (missing.length) {
 		return { ok: false, issues: missing.map((m) => ({ code: 'missing-value' as const, message: `no value for ${m}`, at: m })) };
 	}
+	// A given value wins over a unit of the same name, as in checkFormula.
 	const scope = new Map<string, Value>();
-	for (const r of f.references) scope.set(r, toValue(values[r]));
+	for (const name of f.symbols) if (Object.hasOwn(values, name)) scope.set(name, toValue(values[name]));
 	try {
 		const v = evaluateCompiled(f, scope);
 		const n = toNumberIn(v, resultUnit);

@@ -22,7 +22,7 @@ export const TRIPLE_POINT_PA = 611.657;
 export const IAPWS_SUBLIMATION_MIN_K = 50;
 /** Lower limit of Murphy & Koop (2005) eq. 7. */
 export const MURPHY_KOOP_MIN_K = 110;
-/** Molar mass of water, IAPWS-95 (IAPWS R6-95(2018)), g/mol. */
+/** Molar mass of water used by IAPWS-95 (IAPWS R6-95), g/mol (value from memory). */
 export const WATER_MOLAR_MASS_G_PER_MOL = 18.015268;
 
 // IAPWS R14-08(2011), Table 4 coefficients of eq. (6).
@@ -99,7 +99,8 @@ export function computeSublimationTemperatureIapws(pPa: number): number {
 }
 
 /**
- * Molar enthalpy of sublimation of ice, Murphy & Koop (2005) eq. (5), J/mol, valid T > 30 K:
+ * Molar enthalpy of sublimation of ice, Murphy & Koop (2005) eq. (5), J/mol, stated valid for
+ * T > 30 K (range from memory):
  * ΔH = 46782.5 + 35.8925 T − 0.07414 T² + 541.5 exp(−(T/123.75)²). NaN outside 30–273.16 K.
  */
 export function computeSublimationEnthalpy(tK: number): number {

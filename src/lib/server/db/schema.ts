@@ -3,3 +3,4 @@ export * from './tables/site';
 export * from './tables/identity';
 export * from './tables/audit';
 export * from './tables/production';
+export * from './tables/signature';
