@@ -18,10 +18,10 @@ const timezone = z.string().refine(
 );
 
 const port = z.coerce
-	.number({ message: 'must be a whole number from 1 to 65535' })
-	.int('must be a whole number from 1 to 65535')
-	.min(1, 'must be a whole number from 1 to 65535')
-	.max(65535, 'must be a whole number from 1 to 65535');
+	.number({ message: 'must be a whole number from 0 (any free port) to 65535' })
+	.int('must be a whole number from 0 (any free port) to 65535')
+	.min(0, 'must be a whole number from 0 (any free port) to 65535')
+	.max(65535, 'must be a whole number from 0 (any free port) to 65535');
 
 const minutes = (fallback: number) =>
 	z.coerce
@@ -34,7 +34,9 @@ const environmentSchema = z.object({
 	NODE_ENV: z.enum(['development', 'production', 'test']).default('production'),
 	PORT: port.default(3000),
 	HOST: z.string().min(1).default('0.0.0.0'),
-	ORIGIN: z.url({ message: 'must be the public URL of the app, such as http://localhost:3000' }).optional(),
+	ORIGIN: z
+		.url({ protocol: /^https?$/, message: 'must be the public URL of the app, such as http://localhost:3000' })
+		.optional(),
 	RIMEBOOK_DATA_DIR: z.string().min(1, 'must be a folder path').default('./data'),
 	DATABASE_URL: z
 		.string()
@@ -84,8 +86,21 @@ export function parseConfig(env: Record<string, string | undefined> = process.en
 
 let cached: Config | undefined;
 
-/** The configuration of this process, validated on first use. */
+/**
+ * The configuration of this process, validated on first use. In the server an invalid
+ * configuration ends the process with the message alone: there is no safe way to run on it.
+ */
 export function getConfig(): Config {
-	cached ??= parseConfig();
+	if (!cached) {
+		try {
+			cached = parseConfig();
+		} catch (err) {
+			if (err instanceof ConfigError && !process.env.VITEST) {
+				console.error(err.message);
+				process.exit(1);
+			}
+			throw err;
+		}
+	}
 	return cached;
 }
