@@ -41,6 +41,15 @@ export function isRole(value: unknown): value is Role {
 	return typeof value === 'string' && (roles as readonly string[]).includes(value);
 }
 
+export function isPermission(value: unknown): value is Permission {
+	return typeof value === 'string' && Object.hasOwn(permissionTable, value);
+}
+
+/** The roles that hold a permission. */
+export function rolesWith(permission: Permission): readonly Role[] {
+	return permissionTable[permission];
+}
+
 /** Whether any of the roles grants the permission. */
 export function hasPermission(userRoles: readonly Role[], permission: Permission): boolean {
 	const allowed: readonly Role[] = permissionTable[permission];

@@ -30,6 +30,8 @@ export const user = pgTable(
 		mustChangePassword: boolean('must_change_password').notNull().default(false),
 		disabledAt: timestamp('disabled_at', { withTimezone: true }),
 		lockedUntil: timestamp('locked_until', { withTimezone: true }),
+		/** Failures before this instant no longer count toward the lockout (set by an admin's unlock). */
+		lockoutClearedAt: timestamp('lockout_cleared_at', { withTimezone: true }),
 		locale: text('locale').notNull().default('en'),
 		preferences: jsonb('preferences').notNull().default(sql`'{}'::jsonb`),
 		createdAt: timestamp('created_at', { withTimezone: true }).notNull().defaultNow()
@@ -65,7 +67,9 @@ export const session = pgTable(
 		createdAt: timestamp('created_at', { withTimezone: true }).notNull().defaultNow(),
 		lastSeenAt: timestamp('last_seen_at', { withTimezone: true }).notNull().defaultNow(),
 		/** When this continuous session's first signing (ID + password) happened: 11.200(a)(1)(i). */
-		firstSignedAt: timestamp('first_signed_at', { withTimezone: true })
+		firstSignedAt: timestamp('first_signed_at', { withTimezone: true }),
+		/** How the session was opened, for the audit trail and the profile page. */
+		method: text('method', { enum: ['password', 'passkey'] }).notNull().default('password')
 	},
 	(t) => [index('session_user_idx').on(t.userId)]
 );
@@ -78,6 +82,12 @@ export const signInAttempt = pgTable(
 		username: text('username').notNull(),
 		address: text('address').notNull(),
 		succeeded: boolean('succeeded').notNull(),
+		/** What was attempted: sign-in with a password or passkey, or the password step of a signing. */
+		kind: text('kind', { enum: ['password', 'passkey', 'signing'] }).notNull().default('password'),
+		/** failed, locked (refused while locked), rate-limited, disabled, succeeded. */
+		outcome: text('outcome').notNull().default('failed'),
+		/** Set on the failure that locked the name: unknown names lock like real ones (no user enumeration). */
+		locksUntil: timestamp('locks_until', { withTimezone: true }),
 		at: timestamp('at', { withTimezone: true }).notNull().defaultNow()
 	},
 	(t) => [index('sign_in_attempt_username_idx').on(t.username, t.at), index('sign_in_attempt_address_idx').on(t.address, t.at)]
@@ -95,11 +105,33 @@ export const passkey = pgTable(
 		counter: integer('counter').notNull().default(0),
 		transports: jsonb('transports').notNull().default(sql`'[]'::jsonb`),
 		label: text('label').notNull(),
+		/** Whether the authenticator reported a synced (backed-up) credential. */
+		backedUp: boolean('backed_up').notNull().default(false),
 		createdAt: timestamp('created_at', { withTimezone: true }).notNull().defaultNow(),
 		lastUsedAt: timestamp('last_used_at', { withTimezone: true }),
 		removedAt: timestamp('removed_at', { withTimezone: true })
 	},
 	(t) => [index('passkey_user_idx').on(t.userId)]
+);
+
+/**
+ * A person's signed acknowledgement that their electronic signature is the legally binding
+ * equivalent of their handwritten signature (21 CFR 11.100(c), 11.10(j)). `content` is exactly
+ * what was shown and hashed; its signature row holds the hash (11.70).
+ */
+export const acknowledgement = pgTable(
+	'acknowledgement',
+	{
+		id: text('id').primaryKey(),
+		userId: text('user_id')
+			.notNull()
+			.references(() => user.id),
+		statementVersion: text('statement_version').notNull(),
+		content: jsonb('content').notNull(),
+		signatureId: text('signature_id').notNull(),
+		createdAt: timestamp('created_at', { withTimezone: true }).notNull().defaultNow()
+	},
+	(t) => [index('acknowledgement_user_idx').on(t.userId)]
 );
 
 /** WebAuthn challenges: single use, short-lived, bound to their purpose and user. */
@@ -134,3 +166,4 @@ export type User = typeof user.$inferSelect;
 export type Session = typeof session.$inferSelect;
 export type Passkey = typeof passkey.$inferSelect;
 export type ApiToken = typeof apiToken.$inferSelect;
+export type Acknowledgement = typeof acknowledgement.$inferSelect;

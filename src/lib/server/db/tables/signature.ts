@@ -27,7 +27,11 @@ export const signature = pgTable(
 		contentHash: text('content_hash').notNull(),
 		auditSeq: bigint('audit_seq', { mode: 'number' })
 	},
-	(t) => [index('signature_entity_idx').on(t.entityType, t.entityId), index('signature_batch_idx').on(t.batchId)]
+	(t) => [
+		index('signature_entity_idx').on(t.entityType, t.entityId),
+		index('signature_batch_idx').on(t.batchId),
+		index('signature_signer_idx').on(t.signerId, t.at)
+	]
 );
 
 export type Signature = typeof signature.$inferSelect;

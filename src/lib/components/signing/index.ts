@@ -1,0 +1,2 @@
+export { default as SignDialog } from './SignDialog.svelte';
+export { default as SignatureManifest } from './SignatureManifest.svelte';

@@ -1,0 +1,125 @@
+/** Sign-in, password, passkeys, profile and the signing ceremony. */
+export const auth = {
+	login: {
+		title: 'Sign in',
+		intro: 'Sign in with your own account. Never share it: what you do and sign here is attributed to you.',
+		username: 'Username',
+		password: 'Password',
+		submit: 'Sign in',
+		orPasskey: 'or',
+		passkey: 'Sign in with a passkey',
+		passkeyWorking: 'Waiting for your passkey…',
+		passkeyUnsupported: 'This browser cannot use passkeys.',
+		passkeyCancelled: 'The passkey was not used. Try again, or sign in with your password.',
+		ended: {
+			idle: (p: { minutes: number }) => `You were signed out after ${p.minutes} minutes without activity. Sign in again to continue where you were.`,
+			absolute: (p: { hours: number }) => `Sessions last at most ${p.hours} hours. Sign in again to continue where you were.`
+		},
+		demoHint: (p: { password: string }) => `Demo site: accounts author, operator, operator2, supervisor, qa, inspector and admin, password “${p.password}”. For evaluation only.`
+	},
+	errors: {
+		'invalid-input': 'Please fill in the fields marked.',
+		'bad-credentials': 'The username or password is wrong.',
+		locked: 'Too many failed attempts. Sign-in for this name is blocked for a while; try later or ask an administrator.',
+		disabled: 'This account is disabled. Ask an administrator.',
+		'rate-limited': 'Too many failed attempts from this device. Wait a few minutes and try again.',
+		challenge: 'The passkey request expired or was already used. Try again.',
+		'passkey-invalid': 'The passkey could not be verified. Try again, or use your password.',
+		'password-rules': 'The new password does not meet the rules.',
+		'not-yourself': 'You can only sign as yourself.',
+		'service-account': 'Service accounts cannot do this.',
+		'admin-gmp': 'Administrators do not sign GMP records.',
+		'no-session': 'Sign in first.',
+		'username-required': 'The first signature of a session needs your username and password.',
+		'passkey-not-allowed': 'Use your username and password for the first signature of a session.',
+		conflict: 'This conflicts with the current state. Reload and try again.',
+		forbidden: 'Your roles do not allow this.',
+		'not-found': 'Not found.'
+	},
+	password: {
+		title: 'Change your password',
+		mustChange: 'Your password was set by an administrator or has expired. Choose your own before you continue.',
+		current: 'Current password',
+		next: 'New password',
+		confirm: 'New password again',
+		submit: 'Change password',
+		changed: 'Your password was changed. Your other sessions were signed out.',
+		mismatch: 'The two new passwords differ.',
+		rules: (p: { min: number; recommended: number; max: number }) =>
+			`At least ${p.min} characters (${p.recommended} or more recommended), up to ${p.max}. Any characters, spaces too. A long phrase of unrelated words is easy to remember and hard to guess.`,
+		problems: {
+			'too-short': 'It is too short.',
+			'too-long': 'It is too long.',
+			common: 'It is on the list of commonly used or breached passwords.',
+			'contains-username': 'It contains your username.',
+			context: 'It contains your name or the name of this system.',
+			repetitive: 'It is a repeated or sequential run of characters.',
+			same: 'It is the same as the current password.'
+		} as Record<string, string>
+	},
+	profile: {
+		title: 'My profile',
+		account: 'Account',
+		username: 'Username',
+		printedName: 'Printed name (shown with your signatures)',
+		roles: 'Roles',
+		session: 'This session',
+		sessionStarted: (p: { when: string; method: string }) => `Signed in ${p.when} with ${p.method}.`,
+		methodPassword: 'password',
+		methodPasskey: 'passkey',
+		passkeys: 'Passkeys',
+		passkeysIntro: 'A passkey signs you in with this device’s screen lock (PIN, fingerprint or face) instead of your password, and can confirm later signatures in a session.',
+		noPasskeys: 'You have no passkey yet.',
+		passkeyLabel: 'Name of the passkey (for example “Line 2 tablet”)',
+		passkeyAdd: 'Add a passkey',
+		passkeyAdded: 'The passkey was added.',
+		passkeyRemove: 'Remove',
+		passkeyRemoved: 'The passkey was removed.',
+		passkeyCreated: (p: { when: string }) => `Added ${p.when}`,
+		passkeyLastUsed: (p: { when: string }) => `last used ${p.when}`,
+		passkeyNeverUsed: 'not used yet',
+		reauth: 'Your current password (to confirm it is you)',
+		changePassword: 'Change password',
+		acknowledgement: 'Electronic signature acknowledgement',
+		acknowledgementIntro: 'Before your electronic signature counts, you confirm that you understand what it means.',
+		acknowledgementNone: 'You have not signed the acknowledgement yet.',
+		acknowledgementSign: 'Sign the acknowledgement',
+		acknowledgementRenew: 'Sign it again',
+		acknowledgementSigned: 'Thank you: your acknowledgement is signed.',
+		statement:
+			'I understand that my electronic signature in Rimebook is the legally binding equivalent of my handwritten signature. I will keep my password and passkeys to myself, never let anyone sign in or sign as me, and report at once any loss or suspected misuse of my credentials.',
+		signatures: 'Signed acknowledgements'
+	},
+	sign: {
+		title: 'Sign',
+		meaning: 'Meaning',
+		youSign: 'You are signing',
+		as: (p: { name: string }) => `as ${p.name}`,
+		firstInSession: 'This is your first signature in this session: enter your username and password.',
+		laterInSession: 'Confirm with your password or a passkey.',
+		username: 'Username',
+		password: 'Password',
+		submit: 'Sign',
+		withPasskey: 'Sign with a passkey',
+		cancel: 'Cancel',
+		working: 'Signing…',
+		binding: 'Your signature is bound to exactly this content and recorded with the date, time and meaning.'
+	},
+	meanings: {
+		authored: 'Authored',
+		reviewed: 'Reviewed',
+		approved: 'Approved',
+		issued: 'Issued',
+		performed: 'Performed',
+		verified: 'Verified',
+		released: 'Released',
+		rejected: 'Rejected',
+		acknowledged: 'Acknowledged'
+	} as Record<string, string>,
+	manifestation: {
+		signedBy: 'Signed by',
+		meaning: 'Meaning',
+		when: 'Date and time',
+		method: 'Method'
+	}
+};
