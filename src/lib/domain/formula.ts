@@ -35,7 +35,7 @@ import {
 } from 'mathjs';
 
 /** A measured or computed amount. `unit` is a unit text of this module ('' = dimensionless). */
-export interface Quantity {
+export interface UnitValue {
 	value: number;
 	unit: string;
 }
@@ -49,6 +49,7 @@ export type FormulaIssueCode =
 	| 'unit-mismatch'
 	| 'result-unit'
 	| 'missing-value'
+	| 'unknown-unit'
 	| 'not-finite';
 
 export interface FormulaIssue {
@@ -121,6 +122,15 @@ math.import({ import: refuse('import'), createUnit: refuse('createUnit') }, { ov
 
 type Value = number | Unit;
 
+/** An issue found while evaluating, carried out of the recursive walk. */
+class EvaluationError extends Error {
+	constructor(
+		readonly issue: FormulaIssue
+	) {
+		super(issue.message);
+	}
+}
+
 const functions: Record<(typeof ALLOWED_FUNCTIONS)[number], (...args: Value[]) => Value> = {
 	round: (...a) => (math.round as (...x: Value[]) => Value)(...a),
 	floor: (...a) => (math.floor as (...x: Value[]) => Value)(...a),
@@ -162,7 +172,7 @@ export function isUnitName(name: string): boolean {
 }
 
 /** Checks a unit text; '' is the dimensionless unit. Returns the normalised text. */
-export function parseUnit(text: string): { ok: true; unit: string } | { ok: false; message: string } {
+export function checkUnit(text: string): { ok: true; unit: string } | { ok: false; message: string } {
 	const unit = normalizeUnit(text);
 	if (unit === '') return { ok: true, unit };
 	try {
@@ -182,17 +192,26 @@ function valuelessUnit(unit: string): Unit {
 export function isSameDimension(a: string, b: string): boolean {
 	const ua = normalizeUnit(a);
 	const ub = normalizeUnit(b);
-	if (ua === '' || ub === '') return isDimensionless(ua) && isDimensionless(ub);
-	return valuelessUnit(ua).equalBase(valuelessUnit(ub));
+	try {
+		if (ua === '' || ub === '') return isDimensionless(ua) && isDimensionless(ub);
+		return valuelessUnit(ua).equalBase(valuelessUnit(ub));
+	} catch {
+		return false; // an unknown unit matches nothing
+	}
 }
 
 function isDimensionless(unit: string): boolean {
 	return unit === '' || valuelessUnit(unit).dimensions.every((d) => d === 0);
 }
 
-function toValue(q: Quantity): Value {
+function toValue(q: UnitValue): Value {
 	const unit = normalizeUnit(q.unit);
-	return unit === '' ? q.value : math.unit(q.value, unit);
+	if (unit === '') return q.value;
+	try {
+		return math.unit(q.value, unit);
+	} catch {
+		throw new EvaluationError({ code: 'unknown-unit', message: `'${q.unit}' is not a known unit`, at: q.unit });
+	}
 }
 
 /** Converts a formula value to a number in `unit`, or says why it cannot. */
@@ -200,6 +219,7 @@ function toNumberIn(value: Value, unit: string): number | string {
 	const target = normalizeUnit(unit);
 	if (typeof value === 'number') {
 		if (target === '') return value;
+		if (!checkUnit(target).ok) return `'${unit}' is not a known unit`;
 		// A plain number is a dimensionless quantity: 0.95 in percent is 95.
 		if (isDimensionless(target)) return value / math.unit(1, target).value;
 		return `the result has no unit; expected ${unit}`;
@@ -209,15 +229,21 @@ function toNumberIn(value: Value, unit: string): number | string {
 		if (value.dimensions.every((d) => d === 0)) return value.value;
 		return `the result is in ${value.formatUnits()}; expected a number without unit`;
 	}
+	if (!checkUnit(target).ok) return `'${unit}' is not a known unit`;
 	if (!value.equalBase(valuelessUnit(target))) return `the result is in ${value.formatUnits()}; expected ${unit}`;
 	return value.toNumber(target);
 }
 
 /** Converts a quantity into another unit of the same dimension. */
-export function convertQuantity(q: Quantity, unit: string): FormulaResult<Quantity> {
-	const n = toNumberIn(toValue(q), unit);
-	if (typeof n === 'string') return { ok: false, issues: [{ code: 'result-unit', message: n }] };
-	return { ok: true, value: { value: n, unit: normalizeUnit(unit) } };
+export function convertUnitValue(q: UnitValue, unit: string): FormulaResult<UnitValue> {
+	try {
+		const n = toNumberIn(toValue(q), unit);
+		if (typeof n === 'string') return { ok: false, issues: [{ code: 'result-unit', message: n }] };
+		return { ok: true, value: { value: n, unit: normalizeUnit(unit) } };
+	} catch (e) {
+		if (e instanceof EvaluationError) return { ok: false, issues: [e.issue] };
+		throw e;
+	}
 }
 
 /** Parses a formula and walks it against the allow-list, naming every refused part. */
@@ -293,7 +319,8 @@ function walk(node: MathNode, issues: FormulaIssue[], symbols: string[]): void {
 		}
 		case 'SymbolNode': {
 			const name = n.name as string;
-			if (isAllowedFunction(name)) {
+			// `min` is a function and the unit minute: as a bare name it is the unit.
+			if (isAllowedFunction(name) && !isUnitName(name)) {
 				issues.push({ code: 'not-allowed', message: `the function ${name} must be called with arguments`, at: name });
 			} else if (!symbols.includes(name)) {
 				symbols.push(name); // resolved later: a caller's name first, else a unit
@@ -320,7 +347,8 @@ function walk(node: MathNode, issues: FormulaIssue[], symbols: string[]): void {
 			const fn = n.fn as MathNode;
 			const name = fn.type === 'SymbolNode' ? ((fn as MathNode & { name: string }).name) : null;
 			if (name === null) {
-				issues.push({ code: 'not-allowed', message: 'only named functions may be called', at: node.toString() });
+				const why = fn.type === 'AccessorNode' ? 'property or index access is not allowed' : 'only named functions may be called';
+				issues.push({ code: 'not-allowed', message: why, at: node.toString() });
 				return;
 			}
 			if (!isAllowedFunction(name)) {
@@ -334,14 +362,6 @@ function walk(node: MathNode, issues: FormulaIssue[], symbols: string[]): void {
 			for (const a of n.args as MathNode[]) walk(a, issues, symbols);
 			return;
 		}
-	}
-}
-
-class EvaluationError extends Error {
-	constructor(
-		readonly issue: FormulaIssue
-	) {
-		super(issue.message);
 	}
 }
 
@@ -364,7 +384,9 @@ function evaluateNode(node: MathNode, scope: ReadonlyMap<string, Value>): Value 
 		case 'FunctionNode': {
 			const args = (n.args as MathNode[]).map((a) => evaluateNode(a, scope));
 			const name = node.type === 'OperatorNode' ? (n.fn as string) : ((n.fn as MathNode & { name: string }).name);
-			const f = node.type === 'OperatorNode' ? operators[name] : functions[name as (typeof ALLOWED_FUNCTIONS)[number]];
+			// Own properties only: a crafted node named "constructor" finds nothing.
+			const table: Record<string, (...args: Value[]) => Value> = node.type === 'OperatorNode' ? operators : functions;
+			const f = Object.hasOwn(table, name) ? table[name] : undefined;
 			if (!f) throw new EvaluationError({ code: 'not-allowed', message: `${name} is not allowed`, at: node.toString() });
 			try {
 				return f(...args);
@@ -405,13 +427,14 @@ function evaluateCompiled(formula: CompiledFormula, scope: ReadonlyMap<string, V
 
 /**
  * Checks a formula when it is written: allowed syntax, known names, units that fit together
- * and a result in `resultUnit`. `names` maps every name the formula may use to its unit.
+ * and a result in `resultUnit` (not checked when undefined). `names` maps every name the
+ * formula may use to its unit text; the units must be valid (checkUnit).
  * Units are checked by evaluating with 1 in each name's unit: dimensions do not depend on values.
  */
 export function checkFormula(
 	text: string,
 	names: ReadonlyMap<string, string>,
-	resultUnit: string
+	resultUnit?: string
 ): { ok: boolean; issues: FormulaIssue[]; references: string[] } {
 	const compiled = compileFormula(text);
 	if (!compiled.ok) return { ok: false, issues: compiled.issues, references: [] };
@@ -424,11 +447,11 @@ export function checkFormula(
 		}
 	}
 	if (issues.length) return { ok: false, issues, references };
-	const scope = new Map<string, Value>();
-	for (const name of references) scope.set(name, toValue({ value: 1, unit: names.get(name) ?? '' }));
 	try {
+		const scope = new Map<string, Value>();
+		for (const name of references) scope.set(name, toValue({ value: 1, unit: names.get(name) ?? '' }));
 		const v = evaluateCompiled(f, scope);
-		const n = toNumberIn(v, resultUnit);
+		const n = resultUnit === undefined ? 0 : toNumberIn(v, resultUnit);
 		if (typeof n === 'string') issues.push({ code: 'result-unit', message: n });
 	} catch (e) {
 		if (!(e instanceof EvaluationError)) throw e;
@@ -440,9 +463,9 @@ export function checkFormula(
 /** Evaluates a formula with the given values; the result is converted to `resultUnit`. */
 export function evaluateFormula(
 	formula: string | CompiledFormula,
-	values: Readonly<Record<string, Quantity>>,
+	values: Readonly<Record<string, UnitValue>>,
 	resultUnit: string
-): FormulaResult<Quantity> {
+): FormulaResult<UnitValue> {
 	let f: CompiledFormula;
 	if (typeof formula === 'string') {
 		const c = compileFormula(formula);
@@ -455,10 +478,10 @@ export function evaluateFormula(
 	if (missing.length) {
 		return { ok: false, issues: missing.map((m) => ({ code: 'missing-value' as const, message: `no value for ${m}`, at: m })) };
 	}
-	// A given value wins over a unit of the same name, as in checkFormula.
-	const scope = new Map<string, Value>();
-	for (const name of f.symbols) if (Object.hasOwn(values, name)) scope.set(name, toValue(values[name]));
 	try {
+		// A given value wins over a unit of the same name, as in checkFormula.
+		const scope = new Map<string, Value>();
+		for (const name of f.symbols) if (Object.hasOwn(values, name)) scope.set(name, toValue(values[name]));
 		const v = evaluateCompiled(f, scope);
 		const n = toNumberIn(v, resultUnit);
 		if (typeof n === 'string') return { ok: false, issues: [{ code: 'result-unit', message: n }] };
