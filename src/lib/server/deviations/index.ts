@@ -1,0 +1,1 @@
+export { raiseDeviation, type RaiseDeviationInput, type RaisedDeviation } from './raise';
