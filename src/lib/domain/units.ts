@@ -212,10 +212,9 @@ export const DEFAULT_DISPLAY_ROUNDING: Record<Unit, DisplayRounding> = {
 };
 
 /**
- * Rounds for display only (never store the result). Decimal rounding goes through the
- * shortest decimal representation (toPrecision/toFixed round on the decimal digits), so
- * 233.14999999999998 K shows as 233.15 and 1.005 to 2 decimals as 1.01 is NOT promised:
- * the binary value of 1.005 is below 1.005 and rounds to 1.00, as every IEEE-754 printer does.
+ * Rounds for display only (never store the result), with toPrecision/toFixed: −40 °C in K,
+ * stored as 233.14999999999998, shows as 233.15. Ties are decided on the binary value, as by
+ * every IEEE-754 printer (1.005 is stored just below 1.005 and shows as 1.00 at 2 decimals).
  */
 export function roundForDisplay(value: number, rounding: DisplayRounding): number {
 	if (!Number.isFinite(value)) return value;

@@ -138,6 +138,18 @@ export function searchTimeIndex(t: Float64Array, x: number): number {
 	return lo;
 }
 
+/** First index i with t[i] > x (t.length if none). */
+export function searchTimeIndexAfter(t: Float64Array, x: number): number {
+	let lo = 0;
+	let hi = t.length;
+	while (lo < hi) {
+		const mid = (lo + hi) >>> 1;
+		if (t[mid] <= x) lo = mid + 1;
+		else hi = mid;
+	}
+	return lo;
+}
+
 export interface DownsampledChannel {
 	t: Float64Array;
 	v: Float64Array;
@@ -162,13 +174,11 @@ export function downsampleMinMax(
 	to: number,
 	maxPoints: number
 ): DownsampledChannel {
+	if (!(maxPoints >= 2)) throw new RangeError('maxPoints must be ≥ 2');
 	const i0 = searchTimeIndex(t, from);
-	const i1 = searchTimeIndex(t, to + Number.EPSILON * Math.abs(to)); // exclusive
+	const i1 = searchTimeIndexAfter(t, to); // exclusive
 	const count = Math.max(0, i1 - i0);
-	if (count <= maxPoints || maxPoints < 2) {
-		if (maxPoints < 2 && count > maxPoints) throw new RangeError('maxPoints must be ≥ 2');
-		return { t: t.slice(i0, i0 + count), v: v.slice(i0, i0 + count) };
-	}
+	if (count <= maxPoints) return { t: t.slice(i0, i0 + count), v: v.slice(i0, i0 + count) };
 	const buckets = Math.floor(maxPoints / 2);
 	const t0 = t[i0];
 	const span = t[i1 - 1] - t0;
@@ -225,9 +235,10 @@ export function downsampleSeries(
 	to: number,
 	maxPoints: number
 ): DownsampledSeries {
+	if (!(maxPoints >= 2)) throw new RangeError('maxPoints must be ≥ 2');
 	const { t } = series;
 	const i0 = searchTimeIndex(t, from);
-	const i1 = searchTimeIndex(t, to + Number.EPSILON * Math.abs(to));
+	const i1 = searchTimeIndexAfter(t, to);
 	const count = Math.max(0, i1 - i0);
 	if (count <= maxPoints) {
 		return {
@@ -235,7 +246,6 @@ export function downsampleSeries(
 			values: series.channels.map((c) => c.values.slice(i0, i0 + count))
 		};
 	}
-	if (maxPoints < 2) throw new RangeError('maxPoints must be ≥ 2');
 	const buckets = Math.floor(maxPoints / 2);
 	const t0 = t[i0];
 	const width = (t[i1 - 1] - t0) / buckets;
