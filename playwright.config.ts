@@ -38,6 +38,7 @@ export default defineConfig({
 			ORIGIN: baseURL,
 			RIMEBOOK_DATA_DIR: dataDir,
 			RIMEBOOK_SEED: 'demo',
+			BODY_SIZE_LIMIT: '128M',
 			RIMEBOOK_DEMO_PASSWORD: process.env.RIMEBOOK_DEMO_PASSWORD ?? 'frost-demo-2026'
 		}
 	}

@@ -12,6 +12,7 @@ export default defineConfig({
 				test: {
 					name: 'unit',
 					environment: 'node',
+					sequence: { groupOrder: 0 },
 					include: ['tests/unit/**/*.test.ts']
 				}
 			},
@@ -20,6 +21,7 @@ export default defineConfig({
 				test: {
 					name: 'integration',
 					environment: 'node',
+					sequence: { groupOrder: 1 },
 					include: ['tests/integration/**/*.test.ts'],
 					testTimeout: 60_000,
 					hookTimeout: 120_000,

@@ -32,7 +32,7 @@ if (!existsSync(built) || statSync(built).mtimeMs < sources) {
 const server = spawn(process.execPath, ['build'], {
 	cwd: root,
 	stdio: 'inherit',
-	env: { ...process.env, PORT: port, ORIGIN: origin, NODE_ENV: process.env.NODE_ENV ?? 'production' }
+	env: { BODY_SIZE_LIMIT: '128M', ...process.env, PORT: port, ORIGIN: origin, NODE_ENV: process.env.NODE_ENV ?? 'production' }
 });
 for (const sig of ['SIGINT', 'SIGTERM']) process.on(sig, () => server.kill(sig));
 server.on('exit', (code) => process.exit(code ?? 0));

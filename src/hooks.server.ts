@@ -4,7 +4,9 @@ import { sequence } from '@sveltejs/kit/hooks';
 import { getConfig } from '$lib/server/config';
 import { database } from '$lib/server/db';
 import { prepareDatabase } from '$lib/server/startup';
+import { ensureCheckpointSchedule } from '$lib/server/audit/schedule';
 import { authenticate } from '$lib/server/auth/handle';
+import { checkOrigin } from '$lib/server/auth/origin';
 import { isLocale, negotiateLocale } from '$lib/i18n';
 
 export const init: ServerInit = async () => {
@@ -22,6 +24,8 @@ export const init: ServerInit = async () => {
 		const { seeded } = await prepareDatabase(database);
 		const where = database.kind === 'pglite' ? `PGlite in ${config.RIMEBOOK_DATA_DIR}` : 'PostgreSQL server';
 		console.log(`[rimebook] database ready (${where})${seeded ? '; demo scenario seeded' : ''}`);
+		// Signed ledger checkpoints at intervals (design.md, "The audit ledger"), off the request path.
+		ensureCheckpointSchedule(database.db);
 	} catch (err) {
 		console.error(err instanceof Error ? err.message : err);
 		process.exit(1);
@@ -56,7 +60,7 @@ const securityHeaders: Handle = async ({ event, resolve }) => {
 	return response;
 };
 
-export const handle = sequence(requestId, authenticate, locale, securityHeaders);
+export const handle = sequence(requestId, checkOrigin, authenticate, locale, securityHeaders);
 
 export const handleError: HandleServerError = ({ error, event, status, message }) => {
 	if (status !== 404) console.error(`[${event.locals.requestId}] ${event.request.method} ${event.url.pathname}:`, error);

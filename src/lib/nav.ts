@@ -9,4 +9,4 @@ export interface Area {
 }
 
 // An area is listed here once its pages exist.
-export const areas: Area[] = [{ key: 'today', href: '/', permission: 'today.view' }];
+export const areas: Area[] = [{ key: 'today', href: '/', permission: 'today.view' }, { key: 'masters', href: '/masters', permission: 'master.read' }, { key: 'batches', href: '/batches', permission: 'batch.read' }, { key: 'cycles', href: '/cycles', permission: 'cycle.read' }, { key: 'audit', href: '/audit', permission: 'audit.read' }, { key: 'equipment', href: '/equipment', permission: 'equipment.read' }, { key: 'people', href: '/people', permission: 'user.read' }, { key: 'settings', href: '/settings/execution', permission: 'settings.manage' }];

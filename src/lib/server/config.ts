@@ -55,7 +55,13 @@ const environmentSchema = z.object({
 	RIMEBOOK_LOCKOUT_ATTEMPTS: z.coerce.number().int().min(1).max(100).default(5),
 	RIMEBOOK_LOCKOUT_WINDOW_MINUTES: minutes(15),
 	RIMEBOOK_LOCKOUT_MINUTES: minutes(30),
-	RIMEBOOK_PASSWORD_EXPIRY_DAYS: z.coerce.number().int().min(0).default(0)
+	RIMEBOOK_PASSWORD_EXPIRY_DAYS: z.coerce.number().int().min(0).default(0),
+	// Attachments: a local folder under RIMEBOOK_DATA_DIR by default, S3 when a bucket is named.
+	RIMEBOOK_S3_BUCKET: z.string().min(3, 'must be an S3 bucket name').optional(),
+	RIMEBOOK_S3_ENDPOINT: z.url({ protocol: /^https?$/, message: 'must be the URL of an S3-compatible endpoint' }).optional(),
+	RIMEBOOK_S3_REGION: z.string().min(1).default('us-east-1'),
+	RIMEBOOK_S3_ACCESS_KEY_ID: z.string().optional(),
+	RIMEBOOK_S3_SECRET_ACCESS_KEY: z.string().optional()
 });
 
 export type Config = z.infer<typeof environmentSchema>;

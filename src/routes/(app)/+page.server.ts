@@ -8,5 +8,5 @@ import { dateInZone } from '$lib/domain/time';
 export const load = (async (event) => {
 	const user = requirePermission(event, 'today.view');
 	const today = dateInZone(new Date(), getConfig().RIMEBOOK_SITE_TIMEZONE);
-	return { overview: await getTodayOverview(database.db, user.roles, today) };
+	return { today, overview: await getTodayOverview(database.db, user.roles, today) };
 }) satisfies PageServerLoad;

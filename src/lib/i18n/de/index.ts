@@ -2,9 +2,21 @@ import type { en } from '../en';
 import type { DeepPartial } from '../types';
 import { common } from './common';
 import { shell } from './shell';
+import { audit } from './audit';
+import { auth } from './auth';
+import { batches } from './batches';
+import { equipment } from './equipment';
+import { cycles } from './cycles';
+import { masters } from './masters';
 
 /** German: the shell is complete; areas not yet translated fall back to English. */
 export const de: DeepPartial<typeof en> = {
 	common,
-	shell
+	shell,
+	audit,
+	auth,
+	batches,
+	equipment,
+	cycles,
+	masters
 };

@@ -46,7 +46,9 @@ export const shell: DeepPartial<(typeof en)['shell']> = {
 		people: 'Konten',
 		peopleValue: (p) => `${p.count} Konten`,
 		open: 'Öffnen',
-		batchLine: (p) => `${p.number} · ${p.product}`
+		batchLine: (p) => `${p.number} · ${p.product}`,
+		equipmentStatus: { 'in-service': 'In Betrieb', 'out-of-service': 'Außer Betrieb', 'cleaning-due': 'Reinigung fällig' },
+		calibrationOverdue: (p) => `Kalibrierung überfällig seit ${p.date}`
 	},
 	error: {
 		title: (p) => `Fehler ${p.status}`,

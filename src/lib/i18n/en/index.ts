@@ -1,8 +1,22 @@
 import { common } from './common';
 import { shell } from './shell';
+import { audit } from './audit';
+import { auth } from './auth';
+import { people } from './people';
+import { equipment } from './equipment';
+import { cycles } from './cycles';
+import { batches } from './batches';
+import { masters } from './masters';
 
 /** The English catalogue: complete, and the shape every other locale follows. */
 export const en = {
 	common,
-	shell
+	shell,
+	audit,
+	auth,
+	people,
+	equipment,
+	cycles,
+	batches,
+	masters
 };

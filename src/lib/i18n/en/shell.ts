@@ -43,7 +43,9 @@ export const shell = {
 		people: 'Accounts',
 		peopleValue: (p: { count: number }) => `${p.count} accounts`,
 		open: 'Open',
-		batchLine: (p: { number: string; product: string }) => `${p.number} · ${p.product}`
+		batchLine: (p: { number: string; product: string }) => `${p.number} · ${p.product}`,
+		equipmentStatus: { 'in-service': 'In service', 'out-of-service': 'Out of service', 'cleaning-due': 'Cleaning due' },
+		calibrationOverdue: (p: { date: string }) => `Calibration overdue since ${p.date}`
 	},
 	error: {
 		title: (p: { status: number }) => `Error ${p.status}`,

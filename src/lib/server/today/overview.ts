@@ -16,7 +16,7 @@ export interface TodayOverview {
 	batchesAwaitingReview?: BatchLine[];
 	effectiveMasters?: { id: string; code: string; product: string; version: number }[];
 	draftMasters?: { id: string; code: string; product: string; version: number; status: string }[];
-	equipmentAttention?: { id: string; code: string; name: string; status: string; calibrationDueOn: string | null }[];
+	equipmentAttention?: { id: string; code: string; name: string; status: 'in-service' | 'out-of-service' | 'cleaning-due'; calibrationDueOn: string | null }[];
 	auditCount?: number;
 	accountCount?: number;
 }

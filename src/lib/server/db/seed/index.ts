@@ -6,6 +6,9 @@ import { runUnitOfWork, type UnitOfWork } from '../../work';
 import { systemActor } from '../../audit/ledger';
 import { hashPassword } from '../../auth/password';
 import { demoEquipment, demoLots, demoMaterials, demoPeople, demoSite } from './scenario';
+import { seedMasters } from './masters';
+import { seedBatches } from './batches';
+import { seedCycles } from './cycles';
 
 /** True when no user exists yet: the server seeds the demo only then. */
 export async function isDatabaseEmpty(db: Database): Promise<boolean> {
@@ -20,12 +23,30 @@ export async function isDatabaseEmpty(db: Database): Promise<boolean> {
 export async function seedDemo(db: Database, options: { password: string }): Promise<void> {
 	const passwordHash = await hashPassword(options.password);
 	await runUnitOfWork(db, systemActor, async (uow) => {
+		const context: SeedContext = { db, password: options.password, people: new Map(), materials: new Map(), lots: new Map(), equipment: new Map() };
 		await seedSettings(uow);
-		await seedPeople(uow, passwordHash);
-		await seedMaterials(uow);
-		await seedEquipment(uow);
+		await seedPeople(uow, passwordHash, context);
+		await seedMaterials(uow, context);
+		await seedEquipment(uow, context);
+		// Later areas add their part of the scenario here, each in its own seed/<area>.ts,
+		// in the order the work happens: masters, then batches, then cycles.
+		for (const seedArea of areaSeeders) await seedArea(uow, context);
 	});
 }
+
+/** What the area seeders know of the rows seeded before them. */
+export interface SeedContext {
+	db: Database;
+	/** The demo password, for seeders that sign through the real ceremony. */
+	password: string;
+	people: Map<string, { id: string; name: string }>;
+	materials: Map<string, string>;
+	lots: Map<string, string>;
+	equipment: Map<string, string>;
+}
+
+type AreaSeeder = (uow: UnitOfWork, context: SeedContext) => Promise<void>;
+const areaSeeders: AreaSeeder[] = [seedMasters, seedBatches, seedCycles];
 
 async function seedSettings(uow: UnitOfWork) {
 	const value = { company: demoSite.company, site: demoSite.site, name: demoSite.name, demo: true };
@@ -33,7 +54,7 @@ async function seedSettings(uow: UnitOfWork) {
 	await uow.audit({ action: 'setting.create', entityType: 'setting', entityId: 'site', after: value, reason: 'Demo scenario seeded' });
 }
 
-async function seedPeople(uow: UnitOfWork, passwordHash: string) {
+async function seedPeople(uow: UnitOfWork, passwordHash: string, context: SeedContext) {
 	for (const person of demoPeople) {
 		const id = randomUUID();
 		await uow.tx.insert(user).values({
@@ -45,6 +66,7 @@ async function seedPeople(uow: UnitOfWork, passwordHash: string) {
 			passwordChangedAt: new Date()
 		});
 		await uow.tx.insert(userRole).values(person.roles.map((role) => ({ userId: id, role })));
+		context.people.set(person.username, { id, name: person.name });
 		await uow.audit({
 			action: 'user.create',
 			entityType: 'user',
@@ -55,8 +77,8 @@ async function seedPeople(uow: UnitOfWork, passwordHash: string) {
 	}
 }
 
-async function seedMaterials(uow: UnitOfWork) {
-	const ids = new Map<string, string>();
+async function seedMaterials(uow: UnitOfWork, context: SeedContext) {
+	const ids = context.materials;
 	for (const m of demoMaterials) {
 		const id = randomUUID();
 		ids.set(m.code, id);
@@ -67,15 +89,17 @@ async function seedMaterials(uow: UnitOfWork) {
 		const id = randomUUID();
 		const row = { id, materialId: ids.get(lot.material)!, lotNumber: lot.lotNumber, status: lot.status, expiresOn: lot.expiresOn, supplier: lot.supplier };
 		await uow.tx.insert(materialLot).values(row);
+		context.lots.set(lot.lotNumber, id);
 		await uow.audit({ action: 'material-lot.create', entityType: 'material-lot', entityId: id, after: row });
 	}
 }
 
-async function seedEquipment(uow: UnitOfWork) {
+async function seedEquipment(uow: UnitOfWork, context: SeedContext) {
 	for (const e of demoEquipment) {
 		const id = randomUUID();
 		const row = { id, ...e, properties: { ...e.properties } };
 		await uow.tx.insert(equipment).values(row);
+		context.equipment.set(e.code, id);
 		await uow.audit({ action: 'equipment.create', entityType: 'equipment', entityId: id, after: row });
 	}
 }
