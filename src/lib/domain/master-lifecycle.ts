@@ -34,7 +34,7 @@ export const lifecycle: Record<MasterAction, TransitionRule> = {
 	edit: { from: ['draft'], to: null, permission: 'master.author', meaning: null, needsReason: false },
 	submit: { from: ['draft'], to: 'in-review', permission: 'master.author', meaning: 'authored', needsReason: false },
 	// QA sends a version back for rework before approving it; the author may withdraw it too.
-	return: { from: ['in-review'], to: 'draft', permission: 'master.read', meaning: null, needsReason: true },
+	return: { from: ['in-review'], to: 'draft', permission: 'master.return', meaning: null, needsReason: true },
 	approve: { from: ['in-review'], to: 'approved', permission: 'master.approve', meaning: 'approved', needsReason: false },
 	'make-effective': { from: ['approved'], to: 'effective', permission: 'master.approve', meaning: null, needsReason: false },
 	retire: { from: ['approved', 'effective', 'superseded'], to: 'retired', permission: 'master.approve', meaning: null, needsReason: true },

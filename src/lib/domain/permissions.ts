@@ -14,6 +14,8 @@ export const permissionTable = {
 	'master.read': ['author', 'supervisor', 'qa', 'inspector'],
 	'master.author': ['author'],
 	'master.approve': ['qa'],
+	// Send a version in review back to draft: QA, or its author withdrawing it (the service checks which).
+	'master.return': ['author', 'qa'],
 	'batch.read': ['operator', 'supervisor', 'qa', 'inspector'],
 	'batch.issue': ['qa'],
 	'batch.execute': ['operator', 'supervisor'],
@@ -27,6 +29,8 @@ export const permissionTable = {
 	'review.perform': ['qa'],
 	'audit.read': ['inspector', 'qa', 'admin'],
 	'audit.export': ['inspector', 'qa', 'admin'],
+	// Sign a ledger checkpoint now: a write, so not for inspectors, who change nothing.
+	'audit.checkpoint': ['qa', 'admin'],
 	'equipment.read': ['author', 'operator', 'supervisor', 'qa', 'inspector', 'admin'],
 	'equipment.manage': ['admin'],
 	'user.read': ['admin', 'inspector'],

@@ -43,7 +43,7 @@ export const routePermissions: Record<string, Record<string, Requirement>> = {
 	'/api/users/[id]/+server.ts': { GET: 'user.read' },
 	// The audit trail (owned by the audit work; listed here so the route tree stays fully specified).
 	'/(app)/audit/+page.server.ts': { load: 'audit.read' },
-	'/(app)/audit/verify/+page.server.ts': { load: 'audit.read', 'actions.checkpoint': 'audit.read' },
+	'/(app)/audit/verify/+page.server.ts': { load: 'audit.read', 'actions.checkpoint': 'audit.checkpoint' },
 	'/api/audit/+server.ts': { GET: 'audit.read' },
 	'/api/audit/checkpoints/+server.ts': { GET: 'audit.read' },
 	'/api/audit/consistency/+server.ts': { GET: 'audit.read' },
@@ -71,7 +71,7 @@ export const routePermissions: Record<string, Record<string, Requirement>> = {
 		load: 'master.read',
 		'actions.submit': 'master.author',
 		'actions.approve': 'master.approve',
-		'actions.return': 'master.read',
+		'actions.return': 'master.return',
 		'actions.makeEffective': 'master.approve',
 		'actions.retire': 'master.approve',
 		'actions.newVersion': 'master.author'

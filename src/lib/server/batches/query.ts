@@ -23,12 +23,11 @@ export async function loadBatchRecords(db: Executor, batchId: string, options: {
 	// The row lock serialises writers of one batch on PostgreSQL (PGlite has one connection anyway).
 	const [row] = options.lock ? await query.for('update') : await query;
 	if (!row) return null;
-	const [entries, verifications, deviations, attachments] = await Promise.all([
-		db.select().from(stepEntry).where(eq(stepEntry.batchId, batchId)).orderBy(asc(stepEntry.recordedAt)),
-		db.select().from(stepVerification).where(eq(stepVerification.batchId, batchId)),
-		db.select().from(deviation).where(eq(deviation.batchId, batchId)).orderBy(asc(deviation.createdAt)),
-		db.select().from(attachment).where(eq(attachment.batchId, batchId)).orderBy(asc(attachment.uploadedAt))
-	]);
+	// One query at a time: on a PostgreSQL transaction they share one connection.
+	const entries = await db.select().from(stepEntry).where(eq(stepEntry.batchId, batchId)).orderBy(asc(stepEntry.recordedAt));
+	const verifications = await db.select().from(stepVerification).where(eq(stepVerification.batchId, batchId));
+	const deviations = await db.select().from(deviation).where(eq(deviation.batchId, batchId)).orderBy(asc(deviation.createdAt));
+	const attachments = await db.select().from(attachment).where(eq(attachment.batchId, batchId)).orderBy(asc(attachment.uploadedAt));
 	return { batch: row, template: row.snapshot as Template, entries, verifications, deviations, attachments };
 }
 
@@ -150,11 +149,10 @@ function deviationView(d: BatchRecords['deviations'][number]): DeviationView {
 /** The whole record as the batch page and GET /api/batches/<id> show it (11.50: every signature manifested). */
 export async function buildBatchView(db: Executor, records: BatchRecords): Promise<BatchView> {
 	const { batch: b, template } = records;
-	const [signatures, reasons, issuer] = await Promise.all([
-		db.select().from(signature).where(eq(signature.batchId, b.id)),
-		db.select({ code: reasonCode.code, label: reasonCode.label }).from(reasonCode),
-		b.issuedBy ? db.select({ name: user.name }).from(user).where(eq(user.id, b.issuedBy)) : Promise.resolve([])
-	]);
+	// One query at a time: on a PostgreSQL transaction they share one connection.
+	const signatures = await db.select().from(signature).where(eq(signature.batchId, b.id));
+	const reasons = await db.select({ code: reasonCode.code, label: reasonCode.label }).from(reasonCode);
+	const issuer = b.issuedBy ? await db.select({ name: user.name }).from(user).where(eq(user.id, b.issuedBy)) : [];
 	const sigById = new Map(signatures.map((s) => [s.id, s]));
 	const reasonLabel = new Map(reasons.map((r) => [r.code, r.label]));
 	const supersededBy = new Map(records.entries.filter((e) => e.supersedes).map((e) => [e.supersedes as string, e.id]));
@@ -249,11 +247,10 @@ export async function listBatches(db: Executor): Promise<BatchSummary[]> {
 	const rows = await db.select().from(batch).orderBy(desc(batch.issuedAt));
 	if (rows.length === 0) return [];
 	const ids = rows.map((r) => r.id);
-	const [entries, verifications, deviations] = await Promise.all([
-		db.select({ id: stepEntry.id, batchId: stepEntry.batchId, stepKey: stepEntry.stepKey, supersedes: stepEntry.supersedes, performedBy: stepEntry.performedBy, recordedAt: stepEntry.recordedAt, outOfLimits: stepEntry.outOfLimits }).from(stepEntry).where(inArray(stepEntry.batchId, ids)),
-		db.select({ entryId: stepVerification.entryId, verifiedBy: stepVerification.verifiedBy, batchId: stepVerification.batchId }).from(stepVerification).where(inArray(stepVerification.batchId, ids)),
-		db.select({ batchId: deviation.batchId, stepKey: deviation.stepKey, status: deviation.status }).from(deviation).where(inArray(deviation.batchId, ids))
-	]);
+	// One query at a time: on a PostgreSQL transaction they share one connection.
+	const entries = await db.select({ id: stepEntry.id, batchId: stepEntry.batchId, stepKey: stepEntry.stepKey, supersedes: stepEntry.supersedes, performedBy: stepEntry.performedBy, recordedAt: stepEntry.recordedAt, outOfLimits: stepEntry.outOfLimits }).from(stepEntry).where(inArray(stepEntry.batchId, ids));
+	const verifications = await db.select({ entryId: stepVerification.entryId, verifiedBy: stepVerification.verifiedBy, batchId: stepVerification.batchId }).from(stepVerification).where(inArray(stepVerification.batchId, ids));
+	const deviations = await db.select({ batchId: deviation.batchId, stepKey: deviation.stepKey, status: deviation.status }).from(deviation).where(inArray(deviation.batchId, ids));
 	return rows.map((b) => {
 		const template = b.snapshot as Template;
 		const p = computeProgress(template, {

@@ -36,7 +36,7 @@ export interface SigningInput {
 	relyingParty?: RelyingParty;
 }
 
-const lifecyclePermissions = ['master.read', 'master.author', 'master.approve', 'batch.issue'] as const;
+const lifecyclePermissions = ['master.read', 'master.author', 'master.approve', 'master.return', 'batch.issue'] as const;
 
 /** Refuses an action the rules do not allow, with the reason as its error code. */
 export function assertTransition(user: SessionUser, row: Pick<MasterRecord, 'status' | 'createdBy' | 'authors' | 'submittedBy' | 'code' | 'version'>, action: MasterAction): void {

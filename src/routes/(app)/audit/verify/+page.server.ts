@@ -19,9 +19,9 @@ export const load = (async (event) => {
 }) satisfies PageServerLoad;
 
 export const actions = {
-	// Signing a checkpoint changes no GMP data; it only vouches for what is there (inspectors may do it).
+	// Signing a checkpoint changes no GMP data, but it is a write: QA and admins only (inspectors change nothing).
 	checkpoint: async (event) => {
-		requirePermission(event, 'audit.read');
+		requirePermission(event, 'audit.checkpoint');
 		const cp = await createCheckpoint(database.db);
 		if (!cp) return fail(409, { message: 'empty' });
 		return { signed: cp.size };

@@ -21,7 +21,7 @@ export const load = (async (event) => {
 	if (!detail) error(404, { message: 'No such master record.' });
 	const row = (await findMaster(db, detail.id))!;
 	const isAuthor = authorsOf(row).has(user.id);
-	const actions = listAvailableActions(detail.status, { permissions: permissionsOfUser(user, ['master.read', 'master.author', 'master.approve', 'batch.issue']), isAuthor });
+	const actions = listAvailableActions(detail.status, { permissions: permissionsOfUser(user, ['master.read', 'master.author', 'master.approve', 'master.return', 'batch.issue']), isAuthor });
 	const versions = (await listMasters(db, { code: detail.code })).map((v) => ({ id: v.id, version: v.version, status: v.status }));
 	return {
 		master: detail,
@@ -62,7 +62,7 @@ async function reasoned(event: RequestEvent, permission: Permission, work: (reas
 export const actions = {
 	submit: (event) => signed(event, 'master.author', (input) => submitMaster(database.db, input), 'submitted'),
 	approve: (event) => signed(event, 'master.approve', (input) => approveMaster(database.db, input), 'approved'),
-	return: (event) => reasoned(event, 'master.read', (reason) => returnMaster(database.db, event.locals.user!, event.params.id, reason), 'returned'),
+	return: (event) => reasoned(event, 'master.return', (reason) => returnMaster(database.db, event.locals.user!, event.params.id, reason), 'returned'),
 	makeEffective: (event) => reasoned(event, 'master.approve', (reason) => makeEffective(database.db, event.locals.user!, event.params.id, reason || null), 'effective'),
 	retire: (event) => reasoned(event, 'master.approve', (reason) => retireMaster(database.db, event.locals.user!, event.params.id, reason), 'retired'),
 	newVersion: async (event) => {
