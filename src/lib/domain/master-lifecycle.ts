@@ -48,7 +48,7 @@ export type TransitionRefusal = 'wrong-state' | 'not-permitted' | 'own-version';
 /**
  * Whether `action` may be taken on a version in `status` by someone holding `permissions`.
  * `isAuthor`: the person wrote or submitted this version; they may not approve it (211.186(a)).
- * `return` is open to QA and to the version's own authors.
+ * `return` (master.return) is open to QA and to the version's own authors.
  */
 export function checkTransition(
 	action: MasterAction,
@@ -57,7 +57,8 @@ export function checkTransition(
 ): { ok: true } | { ok: false; reason: TransitionRefusal } {
 	const rule = lifecycle[action];
 	const has = (p: Permission) => who.permissions.includes(p);
-	const permitted = action === 'return' ? has('master.approve') || (has('master.author') && who.isAuthor) : has(rule.permission);
+	// `return` needs master.return, and then either QA's review right or being the version's author.
+	const permitted = has(rule.permission) && (action !== 'return' || has('master.approve') || who.isAuthor);
 	if (!permitted) return { ok: false, reason: 'not-permitted' };
 	if (!rule.from.includes(status)) return { ok: false, reason: 'wrong-state' };
 	if (action === 'approve' && who.isAuthor) return { ok: false, reason: 'own-version' };
@@ -68,3 +69,13 @@ export function checkTransition(
 export function listAvailableActions(status: MasterStatus, who: { permissions: readonly Permission[]; isAuthor: boolean }): MasterAction[] {
 	return masterActions.filter((a) => checkTransition(a, status, who).ok);
 }
+
+/**
+ * Every change of status the lifecycle allows, as [from, to]: each rule's from → to, plus
+ * effective → superseded (make-effective supersedes the version effective until then). The
+ * database enforces the same list (drizzle/0014_master_status_transitions.sql, 11.10(f)).
+ */
+export const statusChanges: readonly (readonly [MasterStatus, MasterStatus])[] = [
+	...Object.values(lifecycle).flatMap((r) => (r.to === null ? [] : r.from.map((f) => [f, r.to!] as const))),
+	['effective', 'superseded']
+];

@@ -15,7 +15,8 @@ export type MasterErrorCode =
 	| 'code-taken'
 	| 'stale'
 	| 'duplicate-number'
-	| 'reason-required';
+	| 'reason-required'
+	| 'integrity';
 
 const statusOf: Record<MasterErrorCode, 400 | 403 | 404 | 409> = {
 	invalid: 400,
@@ -27,7 +28,9 @@ const statusOf: Record<MasterErrorCode, 400 | 403 | 404 | 409> = {
 	'open-version': 409,
 	'code-taken': 409,
 	stale: 409,
-	'duplicate-number': 409
+	'duplicate-number': 409,
+	// The stored content no longer matches its hash (11.10(a)): the record's state forbids signing it.
+	integrity: 409
 };
 
 export class MasterError extends Error {

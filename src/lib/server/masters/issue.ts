@@ -110,7 +110,7 @@ export async function issueBatch(db: Database, input: IssueBatchInput): Promise<
 /** The checks that need no database: the stored template is intact and valid, the size in range. */
 function checkIssuable(template: Template, templateHash: string, batchSize: number) {
 	// 11.10(a): a master whose content no longer matches its hash is never issued.
-	if (hashTemplate(template) !== templateHash) throw new Error('The stored master template does not match its hash; it was not issued.');
+	if (hashTemplate(template) !== templateHash) throw new MasterError('integrity', 'The stored master template does not match its hash; it was not issued.');
 	const v = validateTemplate(template);
 	if (!v.ok) throw new MasterError('invalid', 'The master template is not valid; it cannot be issued.', v.issues);
 	if (!Number.isFinite(batchSize)) throw new MasterError('invalid', 'Give the batch size as a number.', [{ path: ['batchSize'], code: 'batch-size.not-positive', message: 'the batch size must be a positive number' }]);

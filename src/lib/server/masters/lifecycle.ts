@@ -66,6 +66,17 @@ async function lockRow(tx: Tx, id: string): Promise<MasterRecord> {
 	return row;
 }
 
+/**
+ * 21 CFR 11.70, 11.10(a): a signature binds the stored content hash, so that hash must still be
+ * the hash of the stored template when it is signed; a template changed behind the services' back
+ * is never signed (issue.ts does the same before issuing).
+ */
+function assertIntact(row: MasterRecord): void {
+	if (hashTemplate(templateOf(row)) !== row.templateHash) {
+		throw new MasterError('integrity', `${row.code} v${row.version}: the stored content does not match its hash; it was not signed.`);
+	}
+}
+
 async function loadOrThrow(db: Database, id: string): Promise<MasterRecord> {
 	const row = await findMaster(db, id);
 	if (!row) throw new MasterError('not-found', 'No such master record.');
@@ -219,6 +230,7 @@ export async function submitMaster(db: Database, input: SigningInput & { id: str
 	await runUnitOfWork(db, actorOf(input.user), async (uow) => {
 		const locked = await lockRow(uow.tx, input.id);
 		assertTransition(input.user, locked, 'submit');
+		assertIntact(locked);
 		await signRecord(uow, proof, { meaning: 'authored', entityType: MASTER_ENTITY, entityId: locked.id, content: masterSignatureContent(locked, 'authored') });
 		await setStatus(uow, locked, 'in-review', { submittedBy: input.user.id, submittedAt: sql`now()`, authors: [...new Set([...locked.authors, input.user.id])] }, 'master.submit', null);
 	});
@@ -247,6 +259,7 @@ export async function approveMaster(db: Database, input: SigningInput & { id: st
 	await runUnitOfWork(db, actorOf(input.user), async (uow) => {
 		const locked = await lockRow(uow.tx, input.id);
 		assertTransition(input.user, locked, 'approve');
+		assertIntact(locked);
 		await signRecord(uow, proof, { meaning: 'approved', entityType: MASTER_ENTITY, entityId: locked.id, content: masterSignatureContent(locked, 'approved') });
 		await setStatus(uow, locked, 'approved', { approvedBy: input.user.id, approvedAt: sql`now()` }, 'master.approve', null);
 	});

@@ -1,4 +1,4 @@
-import { and, count, desc, eq, inArray, lt, ne, or, isNotNull } from 'drizzle-orm';
+import { and, count, desc, eq, inArray, lt, max, ne, or, isNotNull } from 'drizzle-orm';
 import type { Executor } from '../db/client';
 import { auditEvent, batch, equipment, masterRecord, user } from '../db/schema';
 import { hasPermission, type Role } from '$lib/domain/permissions';
@@ -56,8 +56,10 @@ export async function getTodayOverview(db: Executor, roles: Role[], today: strin
 			.orderBy(equipment.code);
 	}
 	if (hasPermission(roles, 'audit.read')) {
-		const [row] = await db.select({ n: count() }).from(auditEvent);
-		out.auditCount = row.n;
+		// seq is gap-free from 1, so its maximum is the count, read from the primary key's index
+		// instead of counting millions of rows on every page view.
+		const [row] = await db.select({ n: max(auditEvent.seq) }).from(auditEvent);
+		out.auditCount = Number(row.n ?? 0);
 	}
 	if (hasPermission(roles, 'user.manage')) {
 		const [row] = await db.select({ n: count() }).from(user);

@@ -1,7 +1,7 @@
 import { randomUUID } from 'node:crypto';
-import { sql } from 'drizzle-orm';
 import type { Database } from '../client';
-import { equipment, material, materialLot, setting, user, userRole } from '../schema';
+import { material, materialLot, setting, user, userRole } from '../schema';
+import { changeStatus, createEquipment } from '../../equipment/registry';
 import { runUnitOfWork, type UnitOfWork } from '../../work';
 import { systemActor } from '../../audit/ledger';
 import { hashPassword } from '../../auth/password';
@@ -12,8 +12,8 @@ import { seedCycles } from './cycles';
 
 /** True when no user exists yet: the server seeds the demo only then. */
 export async function isDatabaseEmpty(db: Database): Promise<boolean> {
-	const result = await db.execute<{ n: number }>(sql`select count(*)::int as n from "user"`);
-	return (result as unknown as { rows: { n: number }[] }).rows[0].n === 0;
+	const [row] = await db.select({ id: user.id }).from(user).limit(1);
+	return row === undefined;
 }
 
 /**
@@ -94,12 +94,13 @@ async function seedMaterials(uow: UnitOfWork, context: SeedContext) {
 	}
 }
 
+// Through the registry's own services, so each item's history starts with its "created" event.
 async function seedEquipment(uow: UnitOfWork, context: SeedContext) {
+	const reason = 'Demo scenario seeded';
 	for (const e of demoEquipment) {
-		const id = randomUUID();
-		const row = { id, ...e, properties: { ...e.properties } };
-		await uow.tx.insert(equipment).values(row);
-		context.equipment.set(e.code, id);
-		await uow.audit({ action: 'equipment.create', entityType: 'equipment', entityId: id, after: row });
+		const { status, ...rest } = e;
+		const created = await createEquipment(uow, { ...rest, properties: { ...e.properties }, reason });
+		if (status !== 'in-service') await changeStatus(uow, created.id, null, { status, reason });
+		context.equipment.set(e.code, created.id);
 	}
 }
