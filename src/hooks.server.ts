@@ -5,6 +5,7 @@ import { getConfig } from '$lib/server/config';
 import { database } from '$lib/server/db';
 import { prepareDatabase } from '$lib/server/startup';
 import { ensureCheckpointSchedule } from '$lib/server/audit/schedule';
+import { ensureSigningKey } from '$lib/server/audit/checkpoint';
 import { authenticate } from '$lib/server/auth/handle';
 import { checkOrigin } from '$lib/server/auth/origin';
 import { isLocale, negotiateLocale } from '$lib/i18n';
@@ -22,6 +23,8 @@ export const init: ServerInit = async () => {
 	try {
 		const config = getConfig();
 		const { seeded } = await prepareDatabase(database);
+		// The site's checkpoint key exists (and its creation is audited) before anyone asks for it.
+		await ensureSigningKey(database.db);
 		const where = database.kind === 'pglite' ? `PGlite in ${config.RIMEBOOK_DATA_DIR}` : 'PostgreSQL server';
 		console.log(`[rimebook] database ready (${where})${seeded ? '; demo scenario seeded' : ''}`);
 		// Signed ledger checkpoints at intervals (design.md, "The audit ledger"), off the request path.

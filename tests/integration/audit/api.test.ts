@@ -23,11 +23,16 @@ const { GET: checkpointsRoute } = await import('../../../src/routes/api/audit/ch
 const { GET: consistencyRoute } = await import('../../../src/routes/api/audit/consistency/+server');
 const { GET: keyRoute } = await import('../../../src/routes/api/audit/public-key/+server');
 const { GET: exportRoute } = await import('../../../src/routes/api/audit/export/+server');
-const { createCheckpoint, sha256 } = await import('$lib/server/audit/checkpoint');
-const { stopCheckpointSchedule } = await import('$lib/server/audit/schedule');
+const { load: trailPageLoad } = await import('../../../src/routes/(app)/audit/+page.server');
+const { load: verifyPageLoad } = await import('../../../src/routes/(app)/audit/verify/+page.server');
+const { createCheckpoint, ensureSigningKey, sha256 } = await import('$lib/server/audit/checkpoint');
+const { isCheckpointScheduleRunning, stopCheckpointSchedule } = await import('$lib/server/audit/schedule');
+const { sql } = await import('drizzle-orm');
+const { rowsOf } = await import('$lib/server/audit/ledger');
 
 const inspector: SessionUser = { id: 'u-insp', username: 'inspector', name: 'Olu Brannigan', kind: 'person', roles: ['inspector'], mustChangePassword: false, locale: 'en' };
 const operator: SessionUser = { ...inspector, id: 'u-op', username: 'operator', roles: ['operator'] };
+const qa: SessionUser = { ...inspector, id: 'u-qa', username: 'qa', roles: ['qa'] };
 
 function call<E>(handler: (e: E) => Response | Promise<Response>, path: string, user: SessionUser | null, params: Record<string, string> = {}) {
 	const url = new URL(`http://localhost${path}`);
@@ -41,8 +46,25 @@ async function status(p: Promise<Response> | Response): Promise<number> {
 	}
 }
 
+/** Page loads take the same event shape; their result is plain data. */
+function loadPage(load: unknown, path: string, user: SessionUser) {
+	return call(load as (e: unknown) => Promise<Response>, path, user) as unknown as Promise<Record<string, unknown>>;
+}
+async function countRows(table: 'audit_signing_key' | 'audit_event'): Promise<number> {
+	return rowsOf<{ n: number }>(await t.handle.db.execute(sql.raw(`select count(*)::int as n from ${table}`)))[0].n;
+}
+
+// Taken before any key exists: reads must not make one (finding 16).
+let keyBeforeAny: { current: unknown; keys: unknown[] };
+let keysAfterReads = -1;
+
 beforeAll(async () => {
 	t = await createTestDatabase('pglite');
+	keyBeforeAny = await (await call(keyRoute, '/api/audit/public-key', inspector)).json();
+	await loadPage(verifyPageLoad, '/audit/verify', qa);
+	keysAfterReads = await countRows('audit_signing_key');
+	// Start-up (hooks init) makes the key as event 1; the synthetic events are 2..41.
+	await ensureSigningKey(t.handle.db);
 	await appendSynthetic(t.handle.db, 40);
 	await createCheckpoint(t.handle.db);
 });
@@ -60,9 +82,9 @@ describe('audit API (21 CFR 11.10(d): access limited to authorised roles)', () =
 
 	it('pages newest first with a cursor and filters by entity, batch and free text', async () => {
 		const first = await (await call(list, '/api/audit?limit=15', inspector)).json();
-		expect(first.events.map((e: { seq: number }) => e.seq)).toEqual(Array.from({ length: 15 }, (_, i) => 40 - i));
+		expect(first.events.map((e: { seq: number }) => e.seq)).toEqual(Array.from({ length: 15 }, (_, i) => 41 - i));
 		const second = await (await call(list, `/api/audit?limit=15&cursor=${first.nextCursor}`, inspector)).json();
-		expect(second.events[0].seq).toBe(25);
+		expect(second.events[0].seq).toBe(26);
 		const byEntity = await (await call(list, '/api/audit?entity=equipment:ent-0&limit=100', inspector)).json();
 		expect(byEntity.events.length).toBeGreaterThan(0);
 		expect(byEntity.events.every((e: { entityType: string; entityId: string }) => e.entityType === 'equipment' && e.entityId === 'ent-0')).toBe(true);
@@ -75,22 +97,58 @@ describe('audit API (21 CFR 11.10(d): access limited to authorised roles)', () =
 
 	it('verifies, lists checkpoints, serves the public key and an inclusion proof that checks (RFC 9162 2.1.3.2)', async () => {
 		const report = await (await call(verifyRoute, '/api/audit/verify', inspector)).json();
-		expect(report).toMatchObject({ ok: true, count: 40, firstBreak: null });
+		expect(report).toMatchObject({ ok: true, count: 41, firstBreak: null });
 		const { checkpoints } = await (await call(checkpointsRoute, '/api/audit/checkpoints', inspector)).json();
-		expect(checkpoints[0].size).toBe(40);
+		expect(checkpoints[0].size).toBe(41);
 		const key = await (await call(keyRoute, '/api/audit/public-key', inspector)).json();
 		expect(key.current.publicKey).toContain('BEGIN PUBLIC KEY');
 		expect(JSON.stringify(key)).not.toContain('PRIVATE');
 		const proof = await (await call(proofRoute, '/api/audit/proof/17', inspector, { seq: '17' })).json();
-		expect(verifyInclusion(sha256, 16, 40, leafHash(sha256, fromHex(proof.hash)), proof.path.map(fromHex), fromHex(proof.checkpoint.root))).toBe(true);
-		expect(await status(call(proofRoute, '/api/audit/proof/41', inspector, { seq: '41' }))).toBe(409);
+		expect(verifyInclusion(sha256, 16, 41, leafHash(sha256, fromHex(proof.hash)), proof.path.map(fromHex), fromHex(proof.checkpoint.root))).toBe(true);
+		expect(await status(call(proofRoute, '/api/audit/proof/42', inspector, { seq: '42' }))).toBe(409);
 	});
 
 	it('proves a later checkpoint extends an earlier one (RFC 9162 2.1.4.2)', async () => {
 		await appendSynthetic(t.handle.db, 9);
 		const later = await createCheckpoint(t.handle.db);
-		const c = await (await call(consistencyRoute, `/api/audit/consistency?from=40&to=${later!.size}`, inspector)).json();
-		expect(verifyConsistency(sha256, 40, later!.size, fromHex(c.from.root), fromHex(c.to.root), c.path.map(fromHex))).toBe(true);
+		const c = await (await call(consistencyRoute, `/api/audit/consistency?from=41&to=${later!.size}`, inspector)).json();
+		expect(verifyConsistency(sha256, 41, later!.size, fromHex(c.from.root), fromHex(c.to.root), c.path.map(fromHex))).toBe(true);
+	});
+});
+
+describe('site signing key and the verify page (21 CFR 11.10(d), (e))', () => {
+	it('finding 16: a read never makes the key; ensureSigningKey makes it once, audited, without the private key', async () => {
+		expect(keyBeforeAny).toEqual({ current: null, keys: [] });
+		expect(keysAfterReads).toBe(0);
+		expect(await countRows('audit_signing_key')).toBe(1);
+		const [first] = rowsOf<{ canonical: string }>(await t.handle.db.execute(sql`select canonical from audit_event where seq = 1`));
+		const event = JSON.parse(first.canonical);
+		expect(event).toMatchObject({ action: 'audit.signing-key.create', entityType: 'audit-signing-key', actorId: null });
+		expect(first.canonical).not.toContain('PRIVATE KEY');
+		const before = await countRows('audit_event');
+		const again = await ensureSigningKey(t.handle.db);
+		expect(again.created).toBe(false);
+		expect(again.id).toBe(event.after.keyId);
+		expect(await countRows('audit_event')).toBe(before);
+		expect(JSON.stringify(again)).not.toContain('PRIVATE');
+	});
+
+	it('finding 7: the verify page offers "sign a checkpoint" only to holders of audit.checkpoint, and shows the public key only', async () => {
+		const asInspector = await loadPage(verifyPageLoad, '/audit/verify', inspector);
+		const asQa = await loadPage(verifyPageLoad, '/audit/verify', qa);
+		expect(asInspector.canCheckpoint).toBe(false); // permissions.ts: audit.checkpoint is qa and admin
+		expect(asQa.canCheckpoint).toBe(true);
+		expect(JSON.stringify(asQa.key)).toContain('BEGIN PUBLIC KEY');
+		expect(JSON.stringify(asQa)).not.toContain('PRIVATE');
+	});
+
+	it('finding 33: loads and GETs do not start the checkpoint schedule (hooks init does)', async () => {
+		stopCheckpointSchedule(t.handle.db);
+		await call(list, '/api/audit', inspector);
+		await call(checkpointsRoute, '/api/audit/checkpoints', inspector);
+		await loadPage(trailPageLoad, '/audit', inspector);
+		await loadPage(verifyPageLoad, '/audit/verify', inspector);
+		expect(isCheckpointScheduleRunning(t.handle.db)).toBe(false);
 	});
 });
 

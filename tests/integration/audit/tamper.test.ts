@@ -16,6 +16,9 @@ import type { BreakKind } from '$lib/server/audit/chain';
  * Every case runs in a transaction that is rolled back, so one chain serves 1,000 cases.
  */
 const N = 60;
+// The first checkpoint also makes the site signing key, an audited unit of work of its own
+// (finding 16): event N + 1. Tampering targets the N synthetic events; the chain has TOTAL.
+const TOTAL = N + 1;
 const CASES = 1000;
 
 type Tamper = { name: string; expected: { seq: number; kind: BreakKind }; run: (tx: Tx) => Promise<void> };
@@ -107,8 +110,8 @@ describe.each(databaseKinds)('tampering on %s is detected at the exact seq', (ki
 	it('verifies the untouched chain on both engines', async () => {
 		for (const engine of ['app', 'database'] as const) {
 			const report = await verifyChain(t.handle.db, { engine, roots: true });
-			expect(report).toMatchObject({ ok: true, count: N, firstBreak: null, columnsGenerated: true, checkpoints: { checked: 1, latestSize: N, unanchored: 0 } });
-			expect(report.head.seq).toBe(N);
+			expect(report).toMatchObject({ ok: true, count: TOTAL, firstBreak: null, columnsGenerated: true, checkpoints: { checked: 1, latestSize: TOTAL, unanchored: 0 } });
+			expect(report.head.seq).toBe(TOTAL);
 		}
 	});
 
@@ -168,7 +171,7 @@ describe.each(databaseKinds)('tampering on %s is detected at the exact seq', (ki
 		}
 		expect(misses).toEqual([]);
 		const clean = await verifyChain(t.handle.db, { engine: 'app', batchSize: 7, worker: true });
-		expect(clean).toMatchObject({ ok: true, count: N, head: { seq: N } });
+		expect(clean).toMatchObject({ ok: true, count: TOTAL, head: { seq: TOTAL } });
 	}, 600_000);
 
 	it('detects a forged checkpoint signature and a re-hashed rewrite of the whole chain', async () => {
@@ -177,7 +180,7 @@ describe.each(databaseKinds)('tampering on %s is detected at the exact seq', (ki
 				await tx.execute(sql`set local session_replication_role = replica`);
 				await tx.execute(sql`update audit_checkpoint set root = ${'c'.repeat(64)}`);
 				const report = await verifyChain(tx);
-				expect(report.firstBreak).toEqual({ seq: N, kind: 'changed', reason: 'checkpoint-signature' });
+				expect(report.firstBreak).toEqual({ seq: TOTAL, kind: 'changed', reason: 'checkpoint-signature' });
 				tx.rollback();
 			})
 			.catch((err) => {
@@ -189,7 +192,7 @@ describe.each(databaseKinds)('tampering on %s is detected at the exact seq', (ki
 				// Rewrites event 30 and re-hashes every later event: the chain is consistent again,
 				// only the signed head names the difference (RFC 9162's reason for signed tree heads).
 				let prev = (await rowAt(tx, 29)).hash;
-				for (let s = 30; s <= N; s++) {
+				for (let s = 30; s <= TOTAL; s++) {
 					const r = await rowAt(tx, s);
 					const canonical = s === 30 ? r.canonical.replace('"action":"', '"action":"x') : r.canonical;
 					const hash = hashEvent(prev, canonical);
@@ -197,7 +200,7 @@ describe.each(databaseKinds)('tampering on %s is detected at the exact seq', (ki
 					prev = hash;
 				}
 				const report = await verifyChain(tx, { engine: 'app' });
-				expect(report.firstBreak).toEqual({ seq: N, kind: 'changed', reason: 'checkpoint-head' });
+				expect(report.firstBreak).toEqual({ seq: TOTAL, kind: 'changed', reason: 'checkpoint-head' });
 				tx.rollback();
 			})
 			.catch((err) => {

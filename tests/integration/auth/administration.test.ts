@@ -102,7 +102,10 @@ describe.each(databaseKinds)('user administration, tokens and passkey sign-in on
 		await db.update(apiToken).set({ expiresAt: sql`now() - interval '1 second'` }).where(eq(apiToken.id, created.id));
 		expect(await authenticateApiToken(db, created.token)).toBeNull();
 		const second = await createApiToken(db, admin, { userId: svcId, label: 'Logger 2', permissions: ['cycle.upload'], days: 30 }, 'Rotation');
-		await revokeApiToken(db, admin, second.id, 'Rotated');
+		// Finding 35 (11.10(d)): a token id posted on another account's page revokes nothing.
+		expect(await statusOf(revokeApiToken(db, admin, { userId: qa.id, tokenId: second.id }, 'Wrong page'))).toBe('404 not-found');
+		expect(await authenticateApiToken(db, second.token)).toMatchObject({ username: 'lyo01-logger' });
+		await revokeApiToken(db, admin, { userId: svcId, tokenId: second.id }, 'Rotated');
 		expect(await authenticateApiToken(db, second.token)).toBeNull();
 		const third = await createApiToken(db, admin, { userId: svcId, label: 'Logger 3', permissions: ['cycle.upload'], days: 30 }, 'Rotation');
 		await setAccountDisabled(db, admin, svcId, true, 'Logger replaced');

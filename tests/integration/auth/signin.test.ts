@@ -1,6 +1,8 @@
 import { afterAll, beforeAll, describe, expect, test } from 'vitest';
 import { eq, sql } from 'drizzle-orm';
-import { session, signInAttempt, user } from '$lib/server/db/schema';
+import { session, setting, signInAttempt, user } from '$lib/server/db/schema';
+import { admitChallengeRequest } from '$lib/server/auth/lockout';
+import { pseudonymOf, PSEUDONYM_KEY_SETTING } from '$lib/server/auth/pseudonym';
 import type { Database } from '$lib/server/db/client';
 import { startSession, verifyPasswordSignIn } from '$lib/server/auth/signin';
 import { hashToken, validateSessionToken } from '$lib/server/auth/session';
@@ -43,9 +45,53 @@ describe.each(databaseKinds)('sign-in on %s', (kind) => {
 		expect(await codeOf(verifyPasswordSignIn(db, { username: 'nobody-here', password: 'not-the-password', address: '10.0.0.2' }))).toBe('401 bad-credentials');
 		const events = await auditSince(db, head);
 		expect(events.map((e) => e.action)).toEqual(['auth.sign-in-failed', 'auth.sign-in-failed']);
-		// Unknown names: the system is the actor and the event records the name tried and the address.
-		expect(events[1]).toMatchObject({ actorId: null, entityId: null, after: { username: 'nobody-here', address: '10.0.0.2', knownAccount: false } });
+		// Unknown names: the system is the actor; the event records a keyed pseudonym of the name tried
+		// (never the name as typed: finding 48) and the address. A real account's name is no secret.
+		expect(events[1]).toMatchObject({ actorId: null, entityId: null, after: { address: '10.0.0.2', knownAccount: false } });
+		expect(events[1].after).not.toHaveProperty('username');
 		expect(events[0].entityId).not.toBeNull();
+		expect(events[0].after).toMatchObject({ username: 'qa' });
+	});
+
+	// Finding 48: a password typed into the username field never reaches the append-only ledger;
+	// the pseudonym is HMAC-SHA-256 (RFC 2104) under the site key, so one name maps to one pseudonym.
+	test('an unknown name is audited as a keyed pseudonym, stable per name, and still locks', async () => {
+		const typed = 'correct-horse-battery-9';
+		const head = await auditHead(db);
+		const codes: string[] = [];
+		for (let i = 0; i < 6; i++) codes.push(await codeOf(verifyPasswordSignIn(db, { username: typed, password: `wrong-${i}-password`, address: `10.7.0.${i}` })));
+		expect(codes.slice(4)).toEqual(['423 locked', '423 locked']);
+		const events = await auditSince(db, head);
+		expect(events.map((e) => e.action)).toEqual([...Array(5).fill('auth.sign-in-failed'), 'user.lock', 'auth.sign-in-refused']);
+		const rows = await db.execute(sql`select canonical from audit_event where seq > ${head}`);
+		expect(JSON.stringify(rows)).not.toContain(typed);
+		const [keyRow] = await db.select({ value: setting.value }).from(setting).where(eq(setting.key, PSEUDONYM_KEY_SETTING));
+		const expected = pseudonymOf(Buffer.from(keyRow.value as string, 'hex'), typed);
+		expect(expected).toMatch(/^hmac-sha256:[0-9a-f]{32}$/);
+		for (const e of events) expect(e.after).toMatchObject({ usernameKeyed: expected });
+		// Another name, another pseudonym.
+		expect(pseudonymOf(Buffer.from(keyRow.value as string, 'hex'), 'ghost.account')).not.toBe(expected);
+	});
+
+	// RFC 4231 test case 2 (HMAC-SHA-256, key "Jefe"): the pseudonym is that MAC's first 128 bits.
+	test('pseudonymOf is HMAC-SHA-256 truncated to 128 bits (RFC 4231, test case 2)', () => {
+		expect(pseudonymOf(Buffer.from('Jefe'), 'what do ya want for nothing?')).toBe('hmac-sha256:5bdcc146bf60754e6a042426089575c7');
+	});
+
+	// Finding 28; NIST SP 800-63B-4 §3.2.2: anonymous passkey challenges are rate limited per address.
+	test('an address asking for too many passkey challenges gets 429, audited once; other addresses are unaffected', async () => {
+		const policy = { attempts: 5, windowMinutes: 15, lockMinutes: 30, addressFailures: 20, addressChallenges: 3 };
+		const head = await auditHead(db);
+		const codes: string[] = [];
+		for (let i = 0; i < 5; i++) codes.push(await codeOf(admitChallengeRequest(db, '198.51.100.7', policy)));
+		expect(codes).toEqual(['ok', 'ok', 'ok', '429 rate-limited', '429 rate-limited']);
+		expect(await codeOf(admitChallengeRequest(db, '198.51.100.8', policy))).toBe('ok');
+		const refused = (await auditSince(db, head)).filter((e) => e.action === 'auth.sign-in-refused');
+		expect(refused).toHaveLength(1);
+		expect(refused[0].after).toMatchObject({ address: '198.51.100.7', outcome: 'rate-limited' });
+		// An address over its failure limit is refused a challenge too.
+		for (let i = 0; i < 20; i++) await codeOf(verifyPasswordSignIn(db, { username: `spray-c-${i}`, password: 'wrong-password-1', address: '198.51.100.9' }));
+		expect(await codeOf(admitChallengeRequest(db, '198.51.100.9', policy))).toBe('429 rate-limited');
 	});
 
 	// 11.300(d); NIST SP 800-63B-4 §3.2.2: 5 failures in 15 min lock for 30 min (configured defaults).

@@ -119,6 +119,21 @@ describe.each(databaseKinds)('signing ceremony on %s', (kind) => {
 		expect(await db.select().from(signature).where(sql`${signature.auditSeq} > ${head}`)).toHaveLength(0);
 	});
 
+	// 11.300(d), finding 39: a signing short of its username or password is refused AND audited, not counted.
+	test('a missing username or password is an audited refusal that does not count toward the lockout', async () => {
+		const s = await freshSession(db, qa);
+		const head = await auditHead(db);
+		expect(await statusOf(signThing(db, qa, s, { method: 'password', password: DEMO_PASSWORD }, { v: 1 }))).toBe('400 username-required');
+		expect(await statusOf(signThing(db, qa, s, { method: 'password', username: 'qa', password: '' }, { v: 1 }))).toBe('400 invalid-input');
+		const events = await auditSince(db, head);
+		expect(events.map((e) => e.action)).toEqual(['signature.refused', 'signature.refused']);
+		expect(events.map((e) => e.reason)).toEqual(['The first signature of a session needs your username and password.', 'Enter your password.']);
+		expect(events[0]).toMatchObject({ entityId: qa.id, after: { username: 'qa', outcome: 'refused' } });
+		expect(await db.select().from(signature).where(sql`${signature.auditSeq} > ${head}`)).toHaveLength(0);
+		// Refusals are not failures: the right credentials still sign at once.
+		expect((await signThing(db, qa, s, { method: 'password', username: 'qa', password: DEMO_PASSWORD }, { v: 1 })).method).toBe('password');
+	});
+
 	// 11.300(d): a wrong password while signing counts toward the lockout; the fifth locks (423).
 	test('wrong signing passwords count toward the lockout', async () => {
 		const op = await sessionUser(db, 'operator');

@@ -25,6 +25,7 @@ const { POST: analyse } = await import('../../../src/routes/api/cycles/analyse/+
 const { GET: getRunRoute } = await import('../../../src/routes/api/runs/[id]/+server');
 const { GET: seriesRoute } = await import('../../../src/routes/api/runs/[id]/series/+server');
 const { clearSeriesCache, loadSeries } = await import('$lib/server/cycles/series-store');
+const { MAX_READER_LOG_BYTES } = await import('$lib/server/cycles/upload');
 
 const recipe = createSucroseRecipe();
 // Known truth (fixtures.ts recipe; invented): one shelf excursion of +5 °C at 30 000–33 600 s.
@@ -155,6 +156,30 @@ describe.each(databaseKinds)('cycle API on %s', (kind) => {
 		expect(bare.endpoint).not.toBeNull(); // the comparative-pressure endpoint needs no recipe
 		expect((await call(analyse, '/api/cycles/analyse', inspector, {}, { method: 'POST', body: form({ file: csv, mapping, batch: 'b' }) })).status).toBe(400);
 		expect(await countRows(t.handle.db, 'cycle_run')).toBe(before);
+	});
+
+	// REVIEW finding 8: a reader's analysis is capped at MAX_READER_LOG_BYTES; an uploader's is not.
+	// The body is counted as it streams in, so a body without Content-Length cannot exceed the cap.
+	it('caps a reader analysis and counts a streamed body without Content-Length', async () => {
+		const big = 'x'.repeat(MAX_READER_LOG_BYTES + 1);
+		const asReader = await call(analyse, '/api/cycles/analyse', inspector, {}, { method: 'POST', body: form({ file: big, mapping }) });
+		expect(asReader.status).toBe(413);
+		const asUploader = await call(analyse, '/api/cycles/analyse', operator, {}, { method: 'POST', body: form({ file: big, mapping }) });
+		expect(asUploader.status).toBe(422); // read, and refused as a log rather than for its size
+		let pulled = 0;
+		const chunk = new Uint8Array(1048576);
+		const stream = new ReadableStream<Uint8Array>({
+			pull(c) {
+				pulled++;
+				if (pulled > 100) c.close();
+				else c.enqueue(chunk);
+			}
+		});
+		const init = { method: 'POST', body: stream, duplex: 'half', headers: { 'content-type': 'multipart/form-data; boundary=x' } };
+		const streamed = await call(upload, `/api/equipment/${dryerId}/runs`, operator, { id: dryerId }, init as RequestInit);
+		expect(streamed.status).toBe(413);
+		// 64 MB log + 1 MB envelope: reading stops at the 66th 1 MB chunk (a pull or two of read-ahead allowed).
+		expect(pulled).toBeLessThanOrEqual(68);
 	});
 
 	it('refuses a bad file with its line and status, storing nothing', async () => {

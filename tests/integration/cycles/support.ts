@@ -2,7 +2,7 @@ import { randomUUID } from 'node:crypto';
 import { createHash } from 'node:crypto';
 import { sql } from 'drizzle-orm';
 import type { Database } from '$lib/server/db/client';
-import { batch, masterRecord, user } from '$lib/server/db/schema';
+import { batch, masterRecord, user, type BatchStatus } from '$lib/server/db/schema';
 import { runUnitOfWork } from '$lib/server/work';
 import type { Actor } from '$lib/server/audit/ledger';
 import { addInstrument, createEquipment } from '$lib/server/equipment/registry';
@@ -19,7 +19,7 @@ export async function createTestActor(db: Database): Promise<Actor> {
 	return { id, name: 'Ines Frostfield' };
 }
 
-export async function createTestDryer(db: Database, actor: Actor, code = 'LYO-T1', dueOn = '2099-01-01') {
+export async function createTestDryer(db: Database, actor: Actor, code = 'LYO-T1', dueOn = '2099-01-01', leakRateLimitMbarLPerS = 0.02) {
 	return runUnitOfWork(db, actor, async (uow) => {
 		const dryer = await createEquipment(uow, {
 			code,
@@ -28,7 +28,7 @@ export async function createTestDryer(db: Database, actor: Actor, code = 'LYO-T1
 			location: 'Test room',
 			calibratedOn: '2026-01-01',
 			calibrationDueOn: '2099-01-01',
-			properties: { shelfAreaM2: 2, chamberVolumeL: 500, condenserCapacityKg: 30, leakRateLimitMbarLPerS: 0.02 },
+			properties: { shelfAreaM2: 2, chamberVolumeL: 500, condenserCapacityKg: 30, leakRateLimitMbarLPerS },
 			reason: 'Test set-up'
 		});
 		const manometer = await addInstrument(uow, dryer.id, { tag: 'PI-101', name: 'Capacitance manometer', role: 'manometer', calibratedOn: `${Number(dueOn.slice(0, 4)) - 1}${dueOn.slice(4)}`, calibrationDueOn: dueOn, reason: 'Test set-up' });
@@ -37,7 +37,7 @@ export async function createTestDryer(db: Database, actor: Actor, code = 'LYO-T1
 }
 
 /** A batch of the demo master record, issued straight into the tables (the masters flow is not under test here). */
-export async function createTestBatch(db: Database, actor: Actor, status: 'issued' | 'released' = 'issued') {
+export async function createTestBatch(db: Database, actor: Actor, status: BatchStatus = 'issued') {
 	const masterId = randomUUID();
 	const batchId = randomUUID();
 	const hash = createHash('sha256').update(JSON.stringify(demoTemplate)).digest('hex');

@@ -48,6 +48,16 @@ describe('master lifecycle rules (21 CFR 211.186(a), 11.10(f), (g))', () => {
 		expect(checkTransition('approve', 'in-review', { permissions: permissionsOf(['author', 'qa']), isAuthor: true })).toEqual({ ok: false, reason: 'own-version' });
 		expect(checkTransition('approve', 'in-review', { permissions: permissionsOf(['author', 'qa']), isAuthor: false })).toEqual({ ok: true });
 	});
+	// The lead's master.return permission (author, QA): QA, or the version's own author withdrawing it.
+	test('return needs master.return, and then QA or being an author of the version', () => {
+		expect(checkTransition('return', 'in-review', author)).toEqual({ ok: true });
+		expect(checkTransition('return', 'in-review', qa)).toEqual({ ok: true });
+		// Another author, who did not write this version, cannot send it back.
+		expect(checkTransition('return', 'in-review', { ...author, isAuthor: false })).toEqual({ ok: false, reason: 'not-permitted' });
+		// A token narrowed to approval only, without master.return, cannot either (11.10(g)).
+		expect(checkTransition('return', 'in-review', { permissions: ['master.read', 'master.approve'], isAuthor: false })).toEqual({ ok: false, reason: 'not-permitted' });
+		for (const p of [inspector, { permissions: permissionsOf(['operator', 'supervisor', 'admin']), isAuthor: true }]) expect(checkTransition('return', 'in-review', p)).toEqual({ ok: false, reason: 'not-permitted' });
+	});
 	test('only an effective version is issued', () => {
 		for (const s of ['draft', 'in-review', 'approved', 'superseded', 'retired'] as const) expect(checkTransition('issue', s, qa)).toEqual({ ok: false, reason: 'wrong-state' });
 		expect(checkTransition('issue', 'effective', qa)).toEqual({ ok: true });

@@ -53,6 +53,7 @@ export const audit: DeepPartial<(typeof en)['audit']> = {
 		none: 'Es wurde noch kein Prüfpunkt signiert.',
 		sign: 'Jetzt einen Prüfpunkt signieren',
 		failed: 'Die Prüfung konnte nicht laufen. Bitte erneut versuchen.',
+		noKey: 'Die Anlage hat noch keinen Signaturschlüssel: er entsteht beim Start oder mit dem ersten Prüfpunkt.',
 		offline: 'Export offline prüfen: npm run audit:verify-export -- DATEI (die Schlüssel-ID mit der hier gezeigten vergleichen).'
 	}
 };

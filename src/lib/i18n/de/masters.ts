@@ -28,6 +28,7 @@ export const masters: DeepPartial<typeof en> = {
 		theoreticalYield: 'Theoretische Ausbeute',
 		signatures: 'Unterschriften',
 		noSignatures: 'Noch nicht unterschrieben.',
+		signatureUnbound: 'Stimmt nicht überein: Diese Unterschrift wurde für einen anderen Inhalt geleistet als die jetzt gezeigte Version (21 CFR 11.70).',
 		procedure: 'Ablauf',
 		actions: 'Was Sie tun können',
 		edit: 'Entwurf bearbeiten',
@@ -43,6 +44,20 @@ export const masters: DeepPartial<typeof en> = {
 		reason: 'Begründung',
 		confirm: 'Bestätigen',
 		cancel: 'Abbrechen'
+	},
+	errors: {
+		invalid: 'Die Eingabe hat Fehler; nichts wurde gespeichert.',
+		forbidden: 'Ihre Rollen erlauben das nicht.',
+		'own-version': 'Sie haben diese Version geschrieben: Eine zweite Person muss sie genehmigen (21 CFR 211.186(a)).',
+		'not-found': 'Diese Herstellungsvorschrift gibt es nicht.',
+		'wrong-state': 'Der Status der Version erlaubt das jetzt nicht.',
+		'open-version': 'Dieses Produkt hat schon eine Version im Entwurf, in Prüfung oder genehmigt, aber noch nicht gültig.',
+		'code-taken': 'Für diesen Produktcode gibt es schon Herstellungsvorschriften: Beginnen Sie stattdessen eine neue Version.',
+		stale: 'Jemand anderes hat diesen Entwurf inzwischen gespeichert. Laden Sie ihn neu; Ihre Änderungen wurden nicht gespeichert.',
+		'duplicate-number': 'Diese Chargennummer ist schon vergeben. Es wurde nichts ausgegeben.',
+		'reason-required': 'Geben Sie eine Begründung an.',
+		integrity: 'Der gespeicherte Inhalt passt nicht mehr zu seinem Hash: Er kann nicht unterschrieben oder ausgegeben werden. Informieren Sie die QA.',
+		'too-large': 'Die Anfrage ist zu groß; nichts wurde gespeichert.'
 	},
 	diff: {
 		title: 'Versionen vergleichen',

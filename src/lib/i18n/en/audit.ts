@@ -50,6 +50,7 @@ export const audit = {
 		keyId: 'Key id',
 		publicKey: 'Site public key (Ed25519)',
 		none: 'No checkpoint has been signed yet.',
+		noKey: 'The site has no signing key yet: it is made at start-up or with the first checkpoint.',
 		sign: 'Sign a checkpoint now',
 		failed: 'The verification could not run. Try again.',
 		offline: 'To verify an export offline: npm run audit:verify-export -- FILE (compare the key id with the one shown here).'

@@ -45,7 +45,9 @@ export const batches = {
 		deviationsOpen: (p: { n: number }) => `${p.n} open deviation${p.n === 1 ? '' : 's'}`,
 		refreshed: 'Updated with changes made by someone else.',
 		live: 'Live: this page updates itself.',
-		offline: 'Cannot reach the server; showing the last state.'
+		offline: 'Cannot reach the server; showing the last state.',
+		unboundSignatures: (p: { n: number }) => `${p.n} signature${p.n === 1 ? ' does' : 's do'} not match the record ${p.n === 1 ? 'it signs' : 'they sign'}: the record may have been altered. Tell QA.`,
+		issueUnbound: 'The issue signature does not match this batch record.'
 	},
 	step: {
 		back: 'Back to the batch',
@@ -103,7 +105,9 @@ export const batches = {
 		chooseFile: 'Choose a file',
 		download: 'Download',
 		noAttachments: 'No file attached yet.',
-		attachedBy: (p: { name: string; at: string }) => `attached by ${p.name}, ${p.at}`
+		attachedBy: (p: { name: string; at: string }) => `attached by ${p.name}, ${p.at}`,
+		signatureUnbound: 'Signature does not match: this entry is not what was signed.',
+		verificationUnbound: 'Verification does not match: the entry or its signature is not what was verified.'
 	},
 	run: {
 		title: 'Freeze-drying cycle run',
@@ -164,14 +168,28 @@ export const batches = {
 			'calibration-overdue': (p: { item: string; on: string }) => `${p.item} was due for calibration on ${p.on}.`
 		}
 	},
+	/** Refusals of the execution services by code (ExecutionErrorCode), shown instead of the server's English. */
 	errors: {
 		'stale-version': 'Someone else changed this batch while you worked. Nothing was saved; the page now shows the latest state.',
 		'out-of-order': 'Earlier steps come first.',
 		'comment-required': 'A value is out of limits: add a comment.',
 		'reason-required': 'A correction needs a reason.',
 		'own-entry': 'You cannot verify your own entry.',
-		'batch-closed': 'This batch is closed.'
-	},
+		'batch-closed': 'This batch is closed.',
+		'not-found': 'This batch or step does not exist.',
+		'invalid-input': 'The entry could not be read. Reload the page and try again.',
+		'invalid-values': 'Some values are not valid: fix the fields marked.',
+		'unknown-reason': 'That reason is not in use any more: choose another.',
+		'already-performed': 'This step was performed meanwhile: correct the latest entry instead.',
+		'not-performed': 'This step has not been performed yet.',
+		'not-critical': 'This step needs no verification.',
+		'already-verified': 'This step is verified already.',
+		'wrong-role': 'Your roles do not record this step.',
+		'file-too-large': 'The file is too large.',
+		'file-type-refused': 'Files of this type are not taken here.',
+		'late-without-time': 'A late entry needs the time the work was done.',
+		'too-large': 'The request is too large.'
+	} as Record<string, string>,
 	settings: {
 		title: 'Batch execution settings',
 		intro: 'Reason codes for corrections and the late-entry limit. Every change is recorded in the audit trail with its reason.',

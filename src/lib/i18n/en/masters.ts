@@ -37,6 +37,7 @@ export const masters = {
 		basedOn: 'Copied from',
 		signatures: 'Signatures',
 		noSignatures: 'Not signed yet.',
+		signatureUnbound: 'Does not match: this signature was made on other content than the version shown now (21 CFR 11.70).',
 		batches: 'Batches issued from this version',
 		noBatches: 'None.',
 		procedure: 'Procedure',
@@ -253,7 +254,9 @@ export const masters = {
 		'code-taken': 'This product code has master records already: start a new version of it instead.',
 		stale: 'Someone else saved this draft meanwhile. Reload it; your changes were not saved.',
 		'duplicate-number': 'That batch number is taken already. Nothing was issued.',
-		'reason-required': 'Give a reason.'
+		'reason-required': 'Give a reason.',
+		integrity: 'The stored content no longer matches its hash: it cannot be signed or issued. Tell QA.',
+		'too-large': 'The request is too large; nothing was saved.'
 	} as Record<string, string>,
 	/** Validator issue codes (validateTemplate, scaleTemplate, imports) in words; the details follow. */
 	issueCodes: {

@@ -4,7 +4,8 @@ import { canonicalJson } from '$lib/domain/canonical';
 import { extendFrontier, frontierRoot, fromHex, leafHash, toHex, type Digest } from '$lib/domain/merkle';
 import type { Database, Executor } from '../db/client';
 import { auditCheckpoint, auditSigningKey, type AuditCheckpoint } from '../db/schema';
-import { LEDGER_LOCK_KEY, rowsOf } from './ledger';
+import { runUnitOfWork } from '../work';
+import { LEDGER_LOCK_KEY, rowsOf, systemActor } from './ledger';
 import { queryRows } from './rows';
 
 /**
@@ -54,28 +55,57 @@ export function keyIdOf(publicKeyPem: string): string {
 	return createHash('sha256').update(der).digest('hex').slice(0, 32);
 }
 
+async function latestKeyRow(db: Executor) {
+	const [row] = await db.select().from(auditSigningKey).orderBy(desc(auditSigningKey.createdAt)).limit(1);
+	return row;
+}
+
 /**
- * The site's signing key, generated on first use and kept in the database so every app node
- * signs with the same key. Production sites should manage this key themselves (a key manager or
- * HSM, with the private key never stored beside the data it vouches for); see the README.
+ * Makes sure the site has a signing key, creating one if not (finding 16). Creating a key is a
+ * change to what vouches for the ledger, so it is a unit of work with its own audit event
+ * (21 CFR 11.10(e)), never a side effect of a read. Call it once at start-up (hooks init);
+ * createCheckpoint calls it too, so the first checkpoint also works on a fresh database. Returns
+ * the public half only. Production sites should manage this key themselves (a key manager or HSM,
+ * with the private key never stored beside the data it vouches for); see the README.
  */
-export async function getSigningKey(db: Database): Promise<SiteKey & { privateKey: string }> {
-	const [existing] = await db.select().from(auditSigningKey).orderBy(desc(auditSigningKey.createdAt)).limit(1);
-	if (existing) return existing;
-	return db.transaction(async (tx) => {
-		// Two nodes starting together must not make two keys: the ledger lock serialises them.
-		await tx.execute(sql`select pg_advisory_xact_lock(${LEDGER_LOCK_KEY})`);
-		const [again] = await tx.select().from(auditSigningKey).orderBy(desc(auditSigningKey.createdAt)).limit(1);
-		if (again) return again;
+export async function ensureSigningKey(db: Database): Promise<SiteKey & { created: boolean }> {
+	const existing = await latestKeyRow(db);
+	if (existing) return { id: existing.id, publicKey: existing.publicKey, created: false };
+	return runUnitOfWork(db, systemActor, async (uow) => {
+		// Two nodes starting together must not make two keys: the ledger lock serialises them
+		// (re-entrant, so the append below takes it again in the same transaction).
+		await uow.tx.execute(sql`select pg_advisory_xact_lock(${LEDGER_LOCK_KEY})`);
+		const again = await latestKeyRow(uow.tx);
+		if (again) {
+			// Someone else made it meanwhile; a unit of work must still say what it did.
+			await uow.audit({ action: 'audit.signing-key.confirm', entityType: 'audit-signing-key', entityId: again.id, after: { keyId: again.id } });
+			return { id: again.id, publicKey: again.publicKey, created: false };
+		}
 		const { publicKey, privateKey } = generateKeyPairSync('ed25519');
 		const row = {
 			publicKey: publicKey.export({ type: 'spki', format: 'pem' }).toString(),
 			privateKey: privateKey.export({ type: 'pkcs8', format: 'pem' }).toString()
 		};
 		const id = keyIdOf(row.publicKey);
-		await tx.insert(auditSigningKey).values({ id, ...row });
-		return { id, ...row };
+		await uow.tx.insert(auditSigningKey).values({ id, ...row });
+		// Never the private key in the ledger: only its id, algorithm and public half.
+		await uow.audit({ action: 'audit.signing-key.create', entityType: 'audit-signing-key', entityId: id, after: { keyId: id, algorithm: 'Ed25519', publicKey: row.publicKey } });
+		return { id, publicKey: row.publicKey, created: true };
 	});
+}
+
+/** The site's current public key for pages and the API; never the private key, never creates one. */
+export async function getPublicSiteKey(db: Executor): Promise<SiteKey | null> {
+	const row = await latestKeyRow(db);
+	return row ? { id: row.id, publicKey: row.publicKey } : null;
+}
+
+/** Only the checkpoint signer reads the private key. */
+async function loadPrivateSigningKey(db: Database): Promise<{ id: string; privateKey: string }> {
+	await ensureSigningKey(db);
+	const row = await latestKeyRow(db);
+	if (!row) throw new Error('The site signing key could not be created.');
+	return { id: row.id, privateKey: row.privateKey };
 }
 
 export async function listSiteKeys(db: Executor): Promise<SiteKey[]> {
@@ -109,7 +139,7 @@ export async function getCheckpoint(db: Executor, size: number): Promise<SignedC
  * are hashed (its compact range is stored with it).
  */
 export async function createCheckpoint(db: Database): Promise<SignedCheckpoint | null> {
-	const key = await getSigningKey(db);
+	const key = await loadPrivateSigningKey(db);
 	return db.transaction(async (tx) => {
 		await tx.execute(sql`select pg_advisory_xact_lock(${LEDGER_LOCK_KEY})`);
 		const [previous] = await tx.select().from(auditCheckpoint).orderBy(desc(auditCheckpoint.size)).limit(1);

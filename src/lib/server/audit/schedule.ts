@@ -42,6 +42,11 @@ export function ensureCheckpointSchedule(db: Database, options: ScheduleOptions 
 	void tick();
 }
 
+/** Whether the schedule runs for this database (tests: loads and GETs must not start it). */
+export function isCheckpointScheduleRunning(db: Database): boolean {
+	return running.has(db);
+}
+
 export function stopCheckpointSchedule(db: Database): void {
 	const timer = running.get(db);
 	if (timer) clearInterval(timer);

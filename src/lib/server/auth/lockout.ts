@@ -5,6 +5,8 @@ import { signInAttempt, user } from '../db/schema';
 import { getConfig } from '../config';
 import { runUnitOfWork } from '../work';
 import { rowsOf, systemActor } from '../audit/ledger';
+import { AuthError } from './errors';
+import { auditedUsername } from './pseudonym';
 
 /**
  * Attempted misuse (21 CFR 11.300(d); NIST SP 800-63B-4 §3.2.2 rate limiting; ASVS V6.3.1):
@@ -18,19 +20,28 @@ export interface LockoutPolicy {
 	lockMinutes: number;
 	/** Failures from one client address within the window before it gets 429 (NIST §3.2.2). */
 	addressFailures: number;
+	/** Anonymous passkey challenges one address may ask for within the window (finding 28). */
+	addressChallenges: number;
 }
 
 export function lockoutPolicy(): LockoutPolicy {
 	const c = getConfig();
 	// Common practice: an address may fail more often than a name (a shared shop-floor tablet, a
 	// proxy), but not without limit; 4 × the per-name limit.
-	return { attempts: c.RIMEBOOK_LOCKOUT_ATTEMPTS, windowMinutes: c.RIMEBOOK_LOCKOUT_WINDOW_MINUTES, lockMinutes: c.RIMEBOOK_LOCKOUT_MINUTES, addressFailures: c.RIMEBOOK_LOCKOUT_ATTEMPTS * 4 };
+	// Common practice too: a passkey sign-in may be started and cancelled a few times per attempt,
+	// so an address may ask for 4 × its failure allowance of challenges per window.
+	const addressFailures = c.RIMEBOOK_LOCKOUT_ATTEMPTS * 4;
+	return { attempts: c.RIMEBOOK_LOCKOUT_ATTEMPTS, windowMinutes: c.RIMEBOOK_LOCKOUT_WINDOW_MINUTES, lockMinutes: c.RIMEBOOK_LOCKOUT_MINUTES, addressFailures, addressChallenges: addressFailures * 4 };
 }
 
 export type AttemptKind = 'password' | 'passkey' | 'signing';
 
 export interface AttemptTarget {
-	/** The name as typed, lower-cased. */
+	/**
+	 * The name as typed, lower-cased. Kept as typed only in sign_in_attempt (bookkeeping that
+	 * counts failures per name for the lockout); the ledger gets it only when it is an account's,
+	 * else a keyed pseudonym (pseudonym.ts; finding 48).
+	 */
 	username: string;
 	/** The account it names, when there is one. */
 	account: { id: string; name: string } | null;
@@ -67,6 +78,26 @@ export async function isAddressLimited(db: Executor, address: string, policy = l
 }
 
 /**
+ * Admits one anonymous request for a passkey sign-in challenge from this address, or refuses it
+ * (finding 28; NIST SP 800-63B-4 §3.2.2). Each request is logged as a `challenge` attempt, so an
+ * address over its allowance, or over its failure limit, gets 429 before a challenge row is made.
+ * The refusal is audited like any rate-limited sign-in: once per address and window.
+ */
+export async function admitChallengeRequest(db: Database, address: string, policy = lockoutPolicy()): Promise<void> {
+	const target: AttemptTarget = { username: '', account: null, address, kind: 'passkey' };
+	const [row] = await db
+		.select({ n: count() })
+		.from(signInAttempt)
+		.where(and(eq(signInAttempt.address, address), eq(signInAttempt.outcome, 'challenge'), gt(signInAttempt.at, minutesAgo(policy.windowMinutes))));
+	if (row.n >= policy.addressChallenges || (await isAddressLimited(db, address, policy))) {
+		await recordRefusal(db, target, 'rate-limited', undefined, policy);
+		throw new AuthError('rate-limited');
+	}
+	// Bookkeeping, not a GMP record (like recordSuccess): no audit event for an ordinary request.
+	await db.insert(signInAttempt).values({ id: randomUUID(), username: '', address, succeeded: false, kind: 'passkey', outcome: 'challenge' });
+}
+
+/**
  * Records a failed attempt and its audit event; locks the name when this failure reaches the
  * limit, auditing the lock too. Returns whether the name is now locked.
  */
@@ -74,11 +105,12 @@ export async function recordFailure(db: Database, target: AttemptTarget, policy 
 	return runUnitOfWork(db, systemActor, async (uow) => {
 		// The audit append takes the ledger's advisory lock first, so concurrent failures of one
 		// name are counted one after another.
+		const name = await auditedUsername(uow.tx, target);
 		await uow.audit({
 			action: target.kind === 'signing' ? 'signature.credentials-failed' : 'auth.sign-in-failed',
 			entityType: 'user',
 			entityId: target.account?.id ?? null,
-			after: { username: target.username, address: target.address, method: target.kind === 'passkey' ? 'passkey' : 'password', knownAccount: target.account !== null },
+			after: { ...name, address: target.address, method: target.kind === 'passkey' ? 'passkey' : 'password', knownAccount: target.account !== null },
 			reason: target.kind === 'signing' ? 'Wrong password while signing' : 'Wrong username or password'
 		});
 		const id = randomUUID();
@@ -95,7 +127,7 @@ export async function recordFailure(db: Database, target: AttemptTarget, policy 
 			action: 'user.lock',
 			entityType: 'user',
 			entityId: target.account?.id ?? null,
-			after: { username: target.username, address: target.address, failures, lockMinutes: policy.lockMinutes },
+			after: { ...name, address: target.address, failures, lockMinutes: policy.lockMinutes },
 			reason: `${failures} failed attempts within ${policy.windowMinutes} minutes`
 		});
 		return { locked: true };
@@ -137,7 +169,7 @@ export async function recordRefusal(db: Database, target: AttemptTarget, outcome
 			action: target.kind === 'signing' ? 'signature.refused' : 'auth.sign-in-refused',
 			entityType: 'user',
 			entityId: target.account?.id ?? null,
-			after: { username: target.username, address: target.address, outcome },
+			after: { ...(await auditedUsername(uow.tx, target)), address: target.address, outcome },
 			reason: reason ?? refusalReasons[outcome]
 		});
 	});

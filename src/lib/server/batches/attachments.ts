@@ -1,5 +1,5 @@
 import { createHash, randomUUID } from 'node:crypto';
-import { and, eq, sql } from 'drizzle-orm';
+import { and, eq } from 'drizzle-orm';
 import type { Database } from '../db/client';
 import { attachment, batch, blob } from '../db/schema';
 import { runUnitOfWork } from '../work';
@@ -9,6 +9,8 @@ import type { BlobStore } from '../blobs/store';
 import { ALLOWED_TYPES, DEFAULT_MAX_MB, matchesType } from '../blobs/policy';
 import { findStep } from '$lib/domain/batch/judge';
 import { ExecutionError } from './errors';
+import { bumpBatchVersion } from './state';
+import { isBatchOpen } from '$lib/domain/batch/status';
 
 export interface UploadRequest {
 	user: SessionUser;
@@ -41,7 +43,7 @@ export async function uploadLimit(db: Database, batchId: string, stepKey: string
 export async function uploadAttachment(db: Database, store: BlobStore, req: UploadRequest) {
 	const [b] = await db.select().from(batch).where(eq(batch.id, req.batchId));
 	if (!b) throw new ExecutionError('not-found', 'There is no such batch.');
-	if (!['issued', 'in-progress', 'awaiting-review'].includes(b.status)) throw new ExecutionError('batch-closed', `Batch ${b.number} is ${b.status}: nothing more can be attached.`);
+	if (!isBatchOpen(b.status)) throw new ExecutionError('batch-closed', `Batch ${b.number} is ${b.status}: nothing more can be attached.`);
 	const step = findStep(b.snapshot as never, req.stepKey);
 	if (!step) throw new ExecutionError('not-found', `This batch has no step ${req.stepKey}.`);
 	if (!step.roles.some((r) => req.user.roles.includes(r))) throw new ExecutionError('wrong-role', `Step ${step.title} is performed by ${step.roles.join(' or ')}.`);
@@ -54,13 +56,16 @@ export async function uploadAttachment(db: Database, store: BlobStore, req: Uplo
 	const sha256 = createHash('sha256').update(req.bytes).digest('hex');
 	await store.put(sha256, req.bytes, req.contentType);
 	return runUnitOfWork(db, actorOf(req.user), async (uow) => {
+		// Under the batch's row lock: it may have closed while the file was read.
+		const [locked] = await uow.tx.select({ status: batch.status }).from(batch).where(eq(batch.id, b.id)).for('update');
+		if (!locked || !isBatchOpen(locked.status)) throw new ExecutionError('batch-closed', `Batch ${b.number} is ${locked?.status ?? 'gone'}: nothing more can be attached.`);
 		await uow.tx.insert(blob).values({ sha256, size: req.bytes.byteLength, contentType: req.contentType, store: store.kind }).onConflictDoNothing();
 		const id = randomUUID();
 		const row = { id, batchId: b.id, stepKey: step.key, fieldKey: req.fieldKey ?? null, sha256, filename, contentType: req.contentType, size: req.bytes.byteLength, uploadedBy: req.user.id, uploadedByName: req.user.name };
 		await uow.tx.insert(attachment).values(row);
 		await uow.audit({ action: 'attachment.upload', entityType: 'attachment', entityId: id, batchId: b.id, after: row });
 		// A new version, so pages watching the batch see the file.
-		await uow.tx.update(batch).set({ version: sql`${batch.version} + 1` }).where(eq(batch.id, b.id));
+		await bumpBatchVersion(uow.tx, b.id);
 		return { id, sha256, filename, contentType: req.contentType, size: req.bytes.byteLength };
 	});
 }

@@ -1,7 +1,7 @@
 import { randomUUID } from 'node:crypto';
 import { eq } from 'drizzle-orm';
 import type { Database } from '../db/client';
-import { batch, reasonCode, stepEntry } from '../db/schema';
+import { reasonCode, stepEntry } from '../db/schema';
 import { runUnitOfWork, type UnitOfWork } from '../work';
 import { actorOf } from '../auth/account';
 import type { SessionInfo, SessionUser } from '../auth/types';
@@ -16,6 +16,9 @@ import { ExecutionError } from './errors';
 import { currentValues, loadBatchRecords, progressOf, type BatchRecords } from './query';
 import { readStepValues } from './validate';
 import { getExecutionSettings } from './settings';
+import { stepEntrySignatureContent } from './signed-content';
+import { bumpBatchVersion } from './state';
+import { isBatchOpen } from '$lib/domain/batch/status';
 
 export interface StepEntryRequest {
 	user: SessionUser;
@@ -46,8 +49,6 @@ export interface StepEntryResult {
 	status: string;
 }
 
-const OPEN_STATUSES = ['issued', 'in-progress', 'awaiting-review'];
-
 function batchSizeOf(records: BatchRecords) {
 	return { value: records.batch.batchSize, unit: records.batch.batchSizeUnit };
 }
@@ -55,7 +56,7 @@ function batchSizeOf(records: BatchRecords) {
 /** Everything checked before anything is written; run once before the ceremony and again under the lock. */
 async function prepareEntry(db: Database | UnitOfWork['tx'], records: BatchRecords, req: StepEntryRequest, now: Date) {
 	const { batch: b, template } = records;
-	if (!OPEN_STATUSES.includes(b.status)) throw new ExecutionError('batch-closed', `Batch ${b.number} is ${b.status}: nothing more can be recorded.`);
+	if (!isBatchOpen(b.status)) throw new ExecutionError('batch-closed', `Batch ${b.number} is ${b.status}: nothing more can be recorded.`);
 	if (req.expectedVersion !== undefined && req.expectedVersion !== b.version) {
 		throw new ExecutionError('stale-version', `Batch ${b.number} changed while you were working (version ${req.expectedVersion} → ${b.version}). Nothing was saved; look at the latest state and enter again.`);
 	}
@@ -139,12 +140,9 @@ export async function recordStepEntry(db: Database, req: StepEntryRequest): Prom
 		const b = records.batch;
 		const entryId = randomUUID();
 		const storedValues = Object.fromEntries(p.values);
-		const content = {
-			batchId: b.id,
-			batchNumber: b.number,
-			snapshotHash: b.snapshotHash,
+		const facts = {
+			id: entryId,
 			stepKey: p.step.key,
-			entryId,
 			values: storedValues,
 			calculations: p.judgement.calculations,
 			outOfLimits: p.judgement.outOfLimits,
@@ -153,18 +151,12 @@ export async function recordStepEntry(db: Database, req: StepEntryRequest): Prom
 			supersedes: p.current?.id ?? null,
 			workedAt: p.workedAt.toISOString()
 		};
+		// 11.70: the whole entry as stored, rebuilt the same way when the record is shown.
+		const content = stepEntrySignatureContent(facts, b);
 		const sig = await signRecord(uow, proof, { meaning: 'performed', entityType: 'step-entry', entityId: entryId, batchId: b.id, content });
 		const row = {
-			id: entryId,
+			...facts,
 			batchId: b.id,
-			stepKey: p.step.key,
-			values: storedValues,
-			calculations: p.judgement.calculations,
-			outOfLimits: p.judgement.outOfLimits,
-			comment: p.comment,
-			reasonCode: req.reasonCode ?? null,
-			supersedes: p.current?.id ?? null,
-			workedAt: p.workedAt.toISOString(),
 			recordedAt: sig.at,
 			late: p.late,
 			performedBy: req.user.id,
@@ -205,11 +197,9 @@ export async function recordStepEntry(db: Database, req: StepEntryRequest): Prom
 /** New version (optimistic concurrency) and status of the batch, audited when the status changes. */
 export async function bumpBatch(uow: UnitOfWork, records: BatchRecords, status: 'in-progress' | 'awaiting-review'): Promise<number> {
 	const b = records.batch;
-	const version = b.version + 1;
-	await uow.tx.update(batch).set({ version, status }).where(eq(batch.id, b.id));
+	const version = await bumpBatchVersion(uow.tx, b.id, status);
 	if (status !== b.status) {
 		await uow.audit({ action: 'batch.status', entityType: 'batch', entityId: b.id, batchId: b.id, before: { status: b.status }, after: { status } });
 	}
 	return version;
 }
-

@@ -21,7 +21,8 @@ export type ExecutionErrorCode =
 	| 'batch-closed'
 	| 'file-too-large'
 	| 'file-type-refused'
-	| 'late-without-time';
+	| 'late-without-time'
+	| 'too-large';
 
 const statusOf: Record<ExecutionErrorCode, 400 | 403 | 404 | 409 | 413 | 415 | 423> = {
 	'not-found': 404,
@@ -41,7 +42,8 @@ const statusOf: Record<ExecutionErrorCode, 400 | 403 | 404 | 409 | 413 | 415 | 4
 	'batch-closed': 423,
 	'file-too-large': 413,
 	'file-type-refused': 415,
-	'late-without-time': 400
+	'late-without-time': 400,
+	'too-large': 413
 };
 
 export interface ExecutionIssue {

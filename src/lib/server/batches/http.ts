@@ -10,8 +10,21 @@ import { buildBatchView, loadBatchRecords } from './query';
 /** The signature part of an API request: `{ password, username? }` (11.200(a)(1)). */
 export const apiSignatureSchema = z.strictObject({ username: z.string().max(100).optional(), password: z.string().min(1).max(1000) });
 
+/** Most fields one step takes in one request, and the longest JSON one value may be (a 5000-character text, 100 readings). */
+export const MAX_ENTRY_FIELDS = 200;
+export const MAX_VALUE_JSON_CHARS = 20_000;
+
+/**
+ * The `values` of an entry: field key → value as typed, bounded before the services read them
+ * (keys are template keys, KEY_PATTERN: at most 48 characters).
+ */
+export const entryValuesSchema = z
+	.record(z.string().max(48), z.unknown())
+	.refine((v) => Object.keys(v).length <= MAX_ENTRY_FIELDS, { message: `at most ${MAX_ENTRY_FIELDS} fields` })
+	.refine((v) => Object.values(v).every((x) => x === undefined || (JSON.stringify(x)?.length ?? 0) <= MAX_VALUE_JSON_CHARS), { message: `a value is at most ${MAX_VALUE_JSON_CHARS} characters as JSON` });
+
 export const entryBodySchema = z.strictObject({
-	values: z.record(z.string(), z.unknown()),
+	values: entryValuesSchema,
 	comment: z.string().max(2000).optional(),
 	reasonCode: z.string().max(40).optional(),
 	workedAt: z.string().max(40).optional(),

@@ -1,6 +1,7 @@
 import { eq } from 'drizzle-orm';
 import type { Executor } from '../db/client';
-import { equipment, material, materialLot } from '../db/schema';
+import { batch, equipment, material, materialLot } from '../db/schema';
+import type { Template } from '$lib/schemas/template';
 
 /** What the entry checks need of a scanned lot (limits.ts checkLot). */
 export interface LotRecord {
@@ -41,4 +42,20 @@ export async function findEquipment(db: Executor, code: string): Promise<Equipme
 		.from(equipment)
 		.where(eq(equipment.code, code.trim().toUpperCase()));
 	return row ?? null;
+}
+
+/**
+ * The item codes a batch's frozen template names (material fields and step materials): the only
+ * items a lot looked up for this batch can be checked against. Null when there is no such batch.
+ */
+export async function batchItemCodes(db: Executor, batchId: string): Promise<Set<string> | null> {
+	const [b] = await db.select({ snapshot: batch.snapshot }).from(batch).where(eq(batch.id, batchId));
+	if (!b) return null;
+	const template = b.snapshot as Template;
+	const codes = new Set<string>();
+	for (const step of template.sections.flatMap((s) => s.steps)) {
+		for (const m of step.materials) codes.add(m.itemCode);
+		for (const f of step.fields) if (f.kind === 'material') codes.add(f.itemCode);
+	}
+	return codes;
 }

@@ -1,6 +1,7 @@
 import { asc, desc, eq, inArray } from 'drizzle-orm';
 import type { Executor } from '../db/client';
-import { attachment, batch, deviation, reasonCode, signature, stepEntry, stepVerification, user, type Batch } from '../db/schema';
+import { attachment, batch, deviation, masterRecord, reasonCode, signature, stepEntry, stepVerification, user, type Batch } from '../db/schema';
+import { batchIssueSignatureContent, isBoundTo, stepEntrySignatureContent, stepVerificationSignatureContent } from './signed-content';
 import type { Field, Template } from '$lib/schemas/template';
 import { computeProgress, type StepState } from '$lib/domain/batch/progress';
 import type { StoredValue } from '$lib/domain/batch/values';
@@ -67,6 +68,8 @@ export interface EntryView {
 	performedBy: string;
 	performedByName: string;
 	signature: SignatureFacts | null;
+	/** Whether the "performed" signature's hash is still that of the entry rebuilt now (11.70; 11.10(a)). */
+	signatureBound: boolean;
 }
 export interface VerificationView {
 	entryId: string;
@@ -74,6 +77,8 @@ export interface VerificationView {
 	verifiedByName: string;
 	verifiedAt: string;
 	signature: SignatureFacts | null;
+	/** Whether the "verified" signature still binds the entry and its "performed" signature (11.70). */
+	signatureBound: boolean;
 }
 export interface DeviationView {
 	id: string;
@@ -133,6 +138,11 @@ export interface BatchView {
 	issuedAt: string;
 	issuedByName: string | null;
 	snapshotHash: string;
+	/** The "issued" signature and whether it still binds the batch's number, master, snapshot and size. */
+	issueSignature: SignatureFacts | null;
+	issueSignatureBound: boolean;
+	/** How many signatures on this record no longer match what they sign: each one is flagged where shown. */
+	unboundSignatures: number;
 	progress: { done: number; total: number; percent: number; next: string | null; complete: boolean };
 	sections: { key: string; title: string; steps: StepView[] }[];
 	deviations: DeviationView[];
@@ -153,6 +163,7 @@ export async function buildBatchView(db: Executor, records: BatchRecords): Promi
 	const signatures = await db.select().from(signature).where(eq(signature.batchId, b.id));
 	const reasons = await db.select({ code: reasonCode.code, label: reasonCode.label }).from(reasonCode);
 	const issuer = b.issuedBy ? await db.select({ name: user.name }).from(user).where(eq(user.id, b.issuedBy)) : [];
+	const [master] = await db.select({ code: masterRecord.code, version: masterRecord.version }).from(masterRecord).where(eq(masterRecord.id, b.masterRecordId));
 	const sigById = new Map(signatures.map((s) => [s.id, s]));
 	const reasonLabel = new Map(reasons.map((r) => [r.code, r.label]));
 	const supersededBy = new Map(records.entries.filter((e) => e.supersedes).map((e) => [e.supersedes as string, e.id]));
@@ -171,8 +182,18 @@ export async function buildBatchView(db: Executor, records: BatchRecords): Promi
 		late: e.late,
 		performedBy: e.performedBy,
 		performedByName: e.performedByName,
-		signature: signatureFacts(sigById.get(e.signatureId))
+		signature: signatureFacts(sigById.get(e.signatureId)),
+		signatureBound: isBoundTo(sigById.get(e.signatureId), { entityType: 'step-entry', entityId: e.id, meaning: 'performed' }, stepEntrySignatureContent(e, b))
 	});
+	const entryById = new Map(records.entries.map((e) => [e.id, e]));
+	const verificationBound = (v: BatchRecords['verifications'][number]): boolean => {
+		const entry = entryById.get(v.entryId);
+		const performed = entry ? sigById.get(entry.signatureId) : undefined;
+		if (!entry || !performed) return false;
+		return isBoundTo(sigById.get(v.signatureId), { entityType: 'step-verification', entityId: v.id, meaning: 'verified' }, stepVerificationSignatureContent(entry, performed, b));
+	};
+	const issueSig = signatures.find((s) => s.entityType === 'batch' && s.entityId === b.id && s.meaning === 'issued');
+	const issueSignatureBound = master ? isBoundTo(issueSig, { entityType: 'batch', entityId: b.id, meaning: 'issued' }, batchIssueSignatureContent(b, master)) : false;
 	const progress = progressOf(records);
 	const scaled = b.scaled as ScaledTemplate | null;
 	const byKey = new Map(progress.steps.map((s) => [s.key, s]));
@@ -202,7 +223,7 @@ export async function buildBatchView(db: Executor, records: BatchRecords): Promi
 				current: p.current ? entryView(p.current) : null,
 				history: p.history.map(entryView),
 				verification: v
-					? { entryId: v.entryId, verifiedBy: v.verifiedBy, verifiedByName: v.verifiedByName, verifiedAt: v.verifiedAt, signature: signatureFacts(sigById.get(v.signatureId)) }
+					? { entryId: v.entryId, verifiedBy: v.verifiedBy, verifiedByName: v.verifiedByName, verifiedAt: v.verifiedAt, signature: signatureFacts(sigById.get(v.signatureId)), signatureBound: verificationBound(v) }
 					: null,
 				deviations: records.deviations.filter((d) => d.stepKey === st.key).map(deviationView),
 				attachments: records.attachments
@@ -211,6 +232,9 @@ export async function buildBatchView(db: Executor, records: BatchRecords): Promi
 			};
 		})
 	}));
+	const stepViews = sections.flatMap((s) => s.steps);
+	const unboundSignatures =
+		stepViews.reduce((n, st) => n + st.history.filter((e) => !e.signatureBound).length + (st.verification && !st.verification.signatureBound ? 1 : 0), 0) + (issueSig && !issueSignatureBound ? 1 : 0);
 	return {
 		id: b.id,
 		number: b.number,
@@ -224,6 +248,9 @@ export async function buildBatchView(db: Executor, records: BatchRecords): Promi
 		issuedAt: b.issuedAt.toISOString(),
 		issuedByName: issuer[0]?.name ?? null,
 		snapshotHash: b.snapshotHash,
+		issueSignature: signatureFacts(issueSig),
+		issueSignatureBound,
+		unboundSignatures,
 		progress: { done: progress.done, total: progress.total, percent: progress.percent, next: progress.next, complete: progress.complete },
 		sections,
 		deviations: records.deviations.map(deviationView)

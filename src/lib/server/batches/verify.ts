@@ -1,16 +1,19 @@
 import { randomUUID } from 'node:crypto';
+import { eq } from 'drizzle-orm';
 import type { Database } from '../db/client';
-import { stepVerification } from '../db/schema';
+import { signature, stepVerification } from '../db/schema';
 import { runUnitOfWork } from '../work';
 import { actorOf } from '../auth/account';
 import type { SessionInfo, SessionUser } from '../auth/types';
 import type { RelyingParty } from '../auth/passkey';
-import { hashContent, signRecord, verifySigner, type SignatureCredentials } from '../signatures/ceremony';
+import { signRecord, verifySigner, type SignatureCredentials } from '../signatures/ceremony';
 import { hasPermission } from '$lib/domain/permissions';
 import { findStep } from '$lib/domain/batch/judge';
 import { ExecutionError } from './errors';
 import { loadBatchRecords, progressOf, type BatchRecords } from './query';
 import { bumpBatch } from './entries';
+import { isBoundTo, stepEntrySignatureContent, stepVerificationSignatureContent } from './signed-content';
+import { isBatchOpen } from '$lib/domain/batch/status';
 
 export interface VerifyStepRequest {
 	user: SessionUser;
@@ -23,11 +26,9 @@ export interface VerifyStepRequest {
 	credentials: SignatureCredentials;
 }
 
-const OPEN_STATUSES = ['issued', 'in-progress', 'awaiting-review'];
-
 function check(records: BatchRecords, req: VerifyStepRequest) {
 	const { batch: b, template } = records;
-	if (!OPEN_STATUSES.includes(b.status)) throw new ExecutionError('batch-closed', `Batch ${b.number} is ${b.status}: nothing more can be recorded.`);
+	if (!isBatchOpen(b.status)) throw new ExecutionError('batch-closed', `Batch ${b.number} is ${b.status}: nothing more can be recorded.`);
 	if (req.expectedVersion !== undefined && req.expectedVersion !== b.version) {
 		throw new ExecutionError('stale-version', `Batch ${b.number} changed while you were looking at it (version ${req.expectedVersion} → ${b.version}). Nothing was signed; look at the latest state first.`);
 	}
@@ -58,7 +59,13 @@ export async function verifyStep(db: Database, req: VerifyStepRequest): Promise<
 		const seen = progressOf(before).steps.find((s) => s.key === sp.key)?.current?.id;
 		if (seen !== current.id) throw new ExecutionError('stale-version', 'The entry changed while you were signing. Nothing was signed; look at the latest state first.');
 		const id = randomUUID();
-		const content = { batchId: records.batch.id, batchNumber: records.batch.number, stepKey: sp.key, entryId: current.id, entryValuesHash: hashContent(current.values) };
+		// 11.70: the countersignature binds the whole entry and the "performed" signature on it.
+		// An entry whose own signature no longer matches it is not verified (11.10(a)).
+		const [performed] = await uow.tx.select().from(signature).where(eq(signature.id, current.signatureId));
+		if (!isBoundTo(performed, { entityType: 'step-entry', entityId: current.id, meaning: 'performed' }, stepEntrySignatureContent(current, records.batch))) {
+			throw new Error(`The performed signature of entry ${current.id} does not match the entry; it was not verified.`);
+		}
+		const content = stepVerificationSignatureContent(current, performed, records.batch);
 		const sig = await signRecord(uow, proof, { meaning: 'verified', entityType: 'step-verification', entityId: id, batchId: records.batch.id, content });
 		const row = { id, batchId: records.batch.id, stepKey: sp.key, entryId: current.id, verifiedBy: req.user.id, verifiedByName: req.user.name, verifiedAt: sig.at, signatureId: sig.id };
 		await uow.tx.insert(stepVerification).values(row);

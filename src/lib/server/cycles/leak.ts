@@ -3,10 +3,14 @@ import { desc, eq } from 'drizzle-orm';
 import { z } from 'zod';
 import { checkLeakRate, computeLeakRate, fitLeakRate, selectLeakPoints } from '$lib/domain/lyo/leak';
 import { combineChannels } from '$lib/domain/lyo/series';
-import type { Executor } from '../db/client';
-import { cycleRun, equipment, leakTest, type LeakTest } from '../db/schema';
+import { isBatchOpen } from '$lib/domain/batch/status';
+import type { Actor } from '../audit/ledger';
+import type { Database, Executor } from '../db/client';
+import { batch, cycleRun, equipment, leakTest, type LeakTest } from '../db/schema';
 import { lyophilizerPropertiesSchema } from '../equipment/registry';
-import type { UnitOfWork } from '../work';
+import { bumpBatchVersion } from '../batches/state';
+import { raiseDeviation } from '../deviations';
+import { runUnitOfWork, type UnitOfWork } from '../work';
 import { loadSeriesCached } from './series-store';
 
 export const leakTestSchema = z.discriminatedUnion('method', [
@@ -38,10 +42,19 @@ export async function recordLeakTest(uow: UnitOfWork, equipmentId: string, input
 	let rate: number;
 	let result: Record<string, unknown>;
 	let runId: string | null = null;
+	let forBatch: { id: string; number: string; stepKey: string | null } | null = null;
 	if (test.method === 'fit') {
-		const [run] = await uow.tx.select({ id: cycleRun.id, equipmentId: cycleRun.equipmentId }).from(cycleRun).where(eq(cycleRun.id, test.runId));
+		const [run] = await uow.tx.select({ id: cycleRun.id, equipmentId: cycleRun.equipmentId, batchId: cycleRun.batchId, stepKey: cycleRun.stepKey }).from(cycleRun).where(eq(cycleRun.id, test.runId));
 		if (!run || run.equipmentId !== equipmentId) throw new LeakTestError('No such run of this lyophilizer.', 404);
 		runId = run.id;
+		if (run.batchId) {
+			// A test on a batch's run is part of that batch record (REVIEW finding 11): lock the batch
+			// row so it cannot close meanwhile, and take it only while the batch is open, the same
+			// OPEN_BATCH_STATUSES rule as entries and run imports.
+			const [b] = await uow.tx.select({ id: batch.id, number: batch.number, status: batch.status }).from(batch).where(eq(batch.id, run.batchId)).for('update');
+			if (!b || !isBatchOpen(b.status)) throw new LeakTestError(`Batch ${b?.number ?? run.batchId} is ${b?.status ?? 'missing'}; nothing more can be recorded on its runs.`, 409);
+			forBatch = { id: b.id, number: b.number, stepKey: run.stepKey };
+		}
 		const series = await loadSeriesCached(uow.tx, run.id);
 		const manometer = series ? combineChannels(series, 'manometer', 'mean') : null;
 		if (!series || !manometer) throw new LeakTestError('The run has no capacitance manometer channel to fit.', 422);
@@ -70,8 +83,42 @@ export async function recordLeakTest(uow: UnitOfWork, equipmentId: string, input
 		createdByName: uow.actor.name
 	};
 	const [created] = await uow.tx.insert(leakTest).values(row).returning();
-	await uow.audit({ action: 'leak-test.record', entityType: 'leak-test', entityId: row.id, after: { ...row, equipment: dryer.code } });
+	let deviationNumber: string | null = null;
+	if (forBatch && !assessment.passed) {
+		// A leak rate over the dryer's limit during a batch's cycle is a deviation of that batch
+		// (21 CFR 211.100(b), 211.192), raised with the test so neither exists without the other.
+		const raised = await raiseDeviation(uow, {
+			batchId: forBatch.id,
+			stepKey: forBatch.stepKey,
+			runId,
+			source: 'auto',
+			kind: 'leak-test-failed',
+			title: `Leak test failed on ${dryer.code}`,
+			description: `Pressure-rise test ${row.id} on run ${runId}: ${rate.toPrecision(3)} mbar·L/s against the limit ${limit} mbar·L/s of ${dryer.code}.`
+		});
+		deviationNumber = raised.number;
+	}
+	if (forBatch) await bumpBatchVersion(uow.tx, forBatch.id);
+	await uow.audit({
+		action: 'leak-test.record',
+		entityType: 'leak-test',
+		entityId: row.id,
+		batchId: forBatch?.id ?? null,
+		after: { ...row, equipment: dryer.code, deviation: deviationNumber }
+	});
 	return created;
+}
+
+/**
+ * The leak-test service for routes (REVIEW finding 9): the run is found, the fit evaluated and
+ * recorded in its own audited unit of work; routes only parse, guard and call.
+ */
+export async function recordRunLeakTest(db: Database, actor: Actor, runId: string, window: { fromS: number; toS: number }): Promise<LeakTest> {
+	const [run] = await db.select({ id: cycleRun.id, equipmentId: cycleRun.equipmentId }).from(cycleRun).where(eq(cycleRun.id, runId));
+	if (!run) throw new LeakTestError('No such run.', 404);
+	const test = leakTestSchema.safeParse({ method: 'fit', runId: run.id, ...window });
+	if (!test.success) throw new LeakTestError(`The window is not valid: ${test.error.issues.map((i) => i.message).join('; ')}.`, 400);
+	return runUnitOfWork(db, actor, (uow) => recordLeakTest(uow, run.equipmentId, test.data));
 }
 
 export async function listLeakTests(db: Executor, filter: { equipmentId?: string; runId?: string }): Promise<LeakTest[]> {

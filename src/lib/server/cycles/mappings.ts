@@ -2,9 +2,10 @@ import { randomUUID } from 'node:crypto';
 import { and, asc, eq } from 'drizzle-orm';
 import { z } from 'zod';
 import { cycleLogMappingSchema, type CycleLogMapping } from '$lib/domain/lyo/mapping';
-import type { Executor } from '../db/client';
+import type { Actor } from '../audit/ledger';
+import type { Database, Executor } from '../db/client';
 import { cycleMapping, equipment } from '../db/schema';
-import type { UnitOfWork } from '../work';
+import { runUnitOfWork, type UnitOfWork } from '../work';
 
 export const saveMappingSchema = z.object({
 	name: z.string().trim().min(1).max(80),
@@ -47,4 +48,14 @@ export async function saveMapping(uow: UnitOfWork, equipmentId: string, input: z
 		after: { equipment: dryer.code, name, mapping }
 	});
 	return { id, name, mapping, updatedAt: now.toISOString() };
+}
+
+/**
+ * The mapping service for routes (REVIEW finding 9): null when there is no such lyophilizer,
+ * else the mapping saved in its own audited unit of work.
+ */
+export async function saveLyophilizerMapping(db: Database, actor: Actor, equipmentId: string, input: z.input<typeof saveMappingSchema>): Promise<SavedMapping | null> {
+	const [dryer] = await db.select({ id: equipment.id, class: equipment.class }).from(equipment).where(eq(equipment.id, equipmentId));
+	if (!dryer || dryer.class !== 'lyophilizer') return null;
+	return runUnitOfWork(db, actor, (uow) => saveMapping(uow, dryer.id, input));
 }

@@ -1,7 +1,12 @@
+import { inArray } from 'drizzle-orm';
+import { OPEN_BATCH_STATUSES } from '$lib/domain/batch/status';
 import { recipeSchema, type Recipe } from '$lib/domain/lyo/recipe';
+import type { Executor } from '../db/client';
+import { batch } from '../db/schema';
 
+/** The part of a frozen template snapshot (src/lib/schemas/template.ts) read here, defensively. */
 interface SnapshotLike {
-	sections?: { key?: string; steps?: { key?: string; fields?: { kind?: string; recipe?: unknown }[] }[] }[];
+	sections?: { key?: string; steps?: { key?: string; title?: string; fields?: { kind?: string; recipe?: unknown }[] }[] }[];
 }
 
 /**
@@ -22,4 +27,30 @@ export function findStepRecipe(snapshot: unknown, stepKey: string): Recipe | nul
 		}
 	}
 	return null;
+}
+
+export interface OpenRecipeBatch {
+	id: string;
+	number: string;
+	/** the batch's steps with a freeze-drying recipe, in template order */
+	steps: { key: string; title: string }[];
+}
+
+/**
+ * Batches still open (OPEN_BATCH_STATUSES, the rule every batch writer uses) with at least one
+ * freeze-drying step: what a run can be imported for (REVIEW finding 10). A step is listed only
+ * when findStepRecipe accepts its recipe, so the list never offers a step the import refuses.
+ */
+export async function listOpenRecipeSteps(db: Executor): Promise<OpenRecipeBatch[]> {
+	const open = await db.select({ id: batch.id, number: batch.number, snapshot: batch.snapshot }).from(batch).where(inArray(batch.status, [...OPEN_BATCH_STATUSES]));
+	return open
+		.map((b) => ({
+			id: b.id,
+			number: b.number,
+			steps: ((b.snapshot as SnapshotLike | null)?.sections ?? [])
+				.flatMap((s) => s.steps ?? [])
+				.filter((s) => s.key && findStepRecipe(b.snapshot, s.key))
+				.map((s) => ({ key: s.key ?? '', title: s.title ?? '' }))
+		}))
+		.filter((b) => b.steps.length > 0);
 }

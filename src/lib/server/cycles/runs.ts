@@ -7,7 +7,9 @@ import type { Recipe } from '$lib/domain/lyo/recipe';
 import { describeUsabilityProblem } from '$lib/domain/equipment';
 import type { Actor } from '../audit/ledger';
 import type { Database, Executor } from '../db/client';
-import { batch, cycleRun, equipment, type CycleRun } from '../db/schema';
+import { batch, cycleRun, equipment, type CycleRun, type Equipment } from '../db/schema';
+import { isBatchOpen } from '$lib/domain/batch/status';
+import { bumpBatchVersion } from '../batches/state';
 import { runUnitOfWork, type UnitOfWork } from '../work';
 import { checkEquipmentUsableById } from '../equipment/usable';
 import { findStepRecipe } from './recipe-source';
@@ -92,6 +94,26 @@ export function describeExcursion(e: Excursion, unit: string | null): string {
 	return `${e.channel} ${e.kind} its acceptable range from ${h(e.startS)} h to ${h(e.endS)} h of the log (${Math.round(e.durationS / 60)} min), peak ${peak}.`;
 }
 
+/**
+ * The recipe of a run's batch step, with the checks a run for a batch needs: the batch still
+ * open (the same OPEN_BATCH_STATUSES rule as entries), the step with a recipe, the lyophilizer
+ * usable. `lock` takes the batch row FOR UPDATE, as loadBatchRecords(tx, id, { lock: true })
+ * does, so the batch cannot close between this check and the write (REVIEW finding 4).
+ */
+async function checkBatchTarget(reader: Executor, dryer: Equipment, batchId: string, stepKey: string, lock: boolean): Promise<Recipe> {
+	const query = reader.select().from(batch).where(eq(batch.id, batchId));
+	const [b] = lock ? await query.for('update') : await query;
+	if (!b) throw new CycleRunError('No such batch.', 404);
+	if (!isBatchOpen(b.status)) throw new CycleRunError(`Batch ${b.number} is ${b.status}; a run can only be added while it is executed.`, 409);
+	const stepRecipe = findStepRecipe(b.snapshot, stepKey);
+	if (!stepRecipe) throw new CycleRunError(`Step "${stepKey}" of batch ${b.number} has no freeze-drying recipe.`, 409);
+	const usable = await checkEquipmentUsableById(reader, dryer.id);
+	if (usable && !usable.usable) {
+		throw new CycleRunError(`${dryer.code} cannot be used in a batch step: ${usable.problems.map(describeUsabilityProblem).join('; ')}.`, 409);
+	}
+	return stepRecipe;
+}
+
 export async function importRun(
 	db: Database,
 	actor: Actor,
@@ -99,32 +121,27 @@ export async function importRun(
 	upload: LogUpload,
 	/** an open unit of work to write in (the demo seed); by default the import opens its own */
 	within?: UnitOfWork
-): Promise<{ runId: string; analysis: CycleAnalysis; deviations: { id: string; number: string }[] }> {
+): Promise<{ runId: string; analysis: CycleAnalysis; deviations: { id: string; number: string }[]; batchVersion: number | null }> {
 	const reader: Executor = within ? within.tx : db;
 	const [dryer] = await reader.select().from(equipment).where(eq(equipment.id, target.equipmentId));
 	if (!dryer) throw new CycleRunError('No such equipment.', 404);
 	if (dryer.class !== 'lyophilizer') throw new CycleRunError(`${dryer.code} is not a lyophilizer.`, 409);
 	if ((target.batchId === null) !== (target.stepKey === null)) throw new CycleRunError('A batch and a step go together: give both or neither.', 400);
-	let recipe = target.recipe;
-	if (target.batchId && target.stepKey) {
-		const [b] = await reader.select().from(batch).where(eq(batch.id, target.batchId));
-		if (!b) throw new CycleRunError('No such batch.', 404);
-		if (b.status !== 'issued' && b.status !== 'in-progress') throw new CycleRunError(`Batch ${b.number} is ${b.status}; a run can only be added while it is executed.`, 409);
-		const stepRecipe = findStepRecipe(b.snapshot, target.stepKey);
-		if (!stepRecipe) throw new CycleRunError(`Step "${target.stepKey}" of batch ${b.number} has no freeze-drying recipe.`, 409);
-		recipe = stepRecipe;
-		const usable = await checkEquipmentUsableById(reader, dryer.id);
-		if (usable && !usable.usable) {
-			throw new CycleRunError(`${dryer.code} cannot be used in a batch step: ${usable.problems.map(describeUsabilityProblem).join('; ')}.`, 409);
-		}
-	}
+	// Checked before the (long) read so a refusal comes fast; checked again, locked, in the write.
+	const recipe = target.batchId && target.stepKey ? await checkBatchTarget(reader, dryer, target.batchId, target.stepKey, false) : target.recipe;
 	const read = readLog(upload);
 	const analysis = analyseCycle(read.series, recipe);
 	const fileSha256 = createHash('sha256').update(upload.bytes).digest('hex');
 	const seriesSha256 = hashSeries(read.series);
 	const runId = randomUUID();
 	const deviations: { id: string; number: string }[] = [];
+	let batchVersion: number | null = null;
 	const write = async (uow: UnitOfWork) => {
+		if (target.batchId && target.stepKey) {
+			const locked = await checkBatchTarget(uow.tx, dryer, target.batchId, target.stepKey, true);
+			// The snapshot is frozen at issue; a different recipe here means the analysis is stale.
+			if (JSON.stringify(locked) !== JSON.stringify(recipe)) throw new CycleRunError(`The recipe of step "${target.stepKey}" changed while the log was read; upload it again.`, 409);
+		}
 		const row = {
 			id: runId,
 			equipmentId: dryer.id,
@@ -133,6 +150,8 @@ export async function importRun(
 			fileName: upload.fileName,
 			fileSha256,
 			fileBytes: upload.bytes.byteLength,
+			// fixed here so a step signature binds the imported series, not a cached copy (finding 32)
+			seriesSha256,
 			mapping: upload.mapping,
 			recipe,
 			analysis,
@@ -163,6 +182,9 @@ export async function importRun(
 				);
 			}
 		}
+		// The run and its deviations hang off the batch: a new version tells polling pages and
+		// expectedVersion checks (status unchanged: a run alone performs no step).
+		if (target.batchId) batchVersion = await bumpBatchVersion(uow.tx, target.batchId);
 		await uow.audit({
 			action: 'cycle-run.import',
 			entityType: 'cycle-run',
@@ -188,7 +210,7 @@ export async function importRun(
 	};
 	if (within) await write(within);
 	else await runUnitOfWork(db, actor, write);
-	return { runId, analysis, deviations };
+	return { runId, analysis, deviations, batchVersion };
 }
 
 export interface RunSummary {

@@ -2,9 +2,10 @@ import { randomUUID } from 'node:crypto';
 import { and, asc, desc, eq } from 'drizzle-orm';
 import { z } from 'zod';
 import { CHANNEL_ROLES, ROLE_UNITS } from '$lib/domain/lyo/series';
-import type { Executor } from '../db/client';
+import type { Actor } from '../audit/ledger';
+import type { Database, Executor } from '../db/client';
 import { equipment, equipmentEvent, equipmentStatus, instrument, type Equipment, type EquipmentEvent, type Instrument } from '../db/schema';
-import type { UnitOfWork } from '../work';
+import { runUnitOfWork, type UnitOfWork } from '../work';
 
 /** Expected refusals of the registry (unknown item, duplicate code ...), shown to the person. */
 export class EquipmentError extends Error {
@@ -180,4 +181,23 @@ export async function addInstrument(uow: UnitOfWork, equipmentId: string, input:
 	await logEvent(uow, { equipmentId, instrumentId: row.id, kind: 'created', toStatus: 'in-service', calibratedOn: i.calibratedOn, calibrationDueOn: i.calibrationDueOn, reason: i.reason });
 	await uow.audit({ action: 'instrument.create', entityType: 'instrument', entityId: row.id, after: { ...row, equipment: item.code }, reason: i.reason });
 	return created;
+}
+
+/** One change of the registry as a route asks for it (the equipment page's form actions). */
+export type EquipmentChange =
+	| { kind: 'status'; instrumentId: string | null; input: z.input<typeof statusChangeSchema> }
+	| { kind: 'calibration'; instrumentId: string | null; input: z.input<typeof calibrationSchema> }
+	| { kind: 'instrument'; input: z.input<typeof instrumentSchema> };
+
+/**
+ * The registry service for routes (REVIEW finding 9): each change in its own audited unit of
+ * work, so a route only parses, guards and calls. Refusals: EquipmentError, or ZodError for input
+ * the schemas refuse.
+ */
+export async function applyEquipmentChange(db: Database, actor: Actor, equipmentId: string, change: EquipmentChange): Promise<void> {
+	await runUnitOfWork(db, actor, async (uow) => {
+		if (change.kind === 'status') await changeStatus(uow, equipmentId, change.instrumentId, change.input);
+		else if (change.kind === 'calibration') await recordCalibration(uow, equipmentId, change.instrumentId, change.input);
+		else await addInstrument(uow, equipmentId, change.input);
+	});
 }

@@ -2,7 +2,8 @@ import type { TemplateIssue } from '$lib/domain/template';
 
 /**
  * An expected refusal of a master-record or issuance service, with the HTTP status routes map it
- * to (style.md: 400 bad input, 403 not allowed, 404 missing, 409 the record's state forbids it).
+ * to (style.md: 400 bad input, 403 not allowed, 404 missing, 409 the record's state forbids it,
+ * 413 a request body over its route's cap).
  * Nothing was changed when one is thrown: services throw before or inside their unit of work.
  */
 export type MasterErrorCode =
@@ -16,9 +17,12 @@ export type MasterErrorCode =
 	| 'stale'
 	| 'duplicate-number'
 	| 'reason-required'
-	| 'integrity';
+	| 'integrity'
+	| 'too-large';
 
-const statusOf: Record<MasterErrorCode, 400 | 403 | 404 | 409> = {
+type MasterErrorStatus = 400 | 403 | 404 | 409 | 413;
+
+const statusOf: Record<MasterErrorCode, MasterErrorStatus> = {
 	invalid: 400,
 	'reason-required': 400,
 	forbidden: 403,
@@ -30,11 +34,12 @@ const statusOf: Record<MasterErrorCode, 400 | 403 | 404 | 409> = {
 	stale: 409,
 	'duplicate-number': 409,
 	// The stored content no longer matches its hash (11.10(a)): the record's state forbids signing it.
-	integrity: 409
+	integrity: 409,
+	'too-large': 413
 };
 
 export class MasterError extends Error {
-	readonly status: 400 | 403 | 404 | 409;
+	readonly status: MasterErrorStatus;
 	constructor(
 		readonly code: MasterErrorCode,
 		message: string,

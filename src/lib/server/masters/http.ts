@@ -1,7 +1,8 @@
 import { fail, json, type ActionFailure } from '@sveltejs/kit';
 import { isAuthError } from '../auth/errors';
 import type { TemplateIssue } from '$lib/domain/template';
-import { isMasterError } from './errors';
+import { isMasterError, MasterError } from './errors';
+import { messagesFor, type Locale } from '$lib/i18n';
 
 export interface MasterFailure {
 	code: string;
@@ -11,9 +12,17 @@ export interface MasterFailure {
 	signError: string;
 }
 
-/** A form action's answer to an expected refusal: its status, code, message and every issue. */
-export function masterFailure(err: unknown): ActionFailure<MasterFailure> {
-	if (isMasterError(err)) return fail(err.status, { code: err.code, message: err.message, issues: err.issues, signError: err.message });
+/**
+ * A form action's answer to an expected refusal: its status, code, message and every issue.
+ * `signError` is the catalogue's words for a master code in the person's language (the
+ * SignDialog looks up only auth codes itself and shows signError otherwise); the server's own
+ * English stays in `message` for the detail.
+ */
+export function masterFailure(err: unknown, locale: Locale = 'en'): ActionFailure<MasterFailure> {
+	if (isMasterError(err)) {
+		const words = (messagesFor(locale).masters.errors as Record<string, string | undefined>)[err.code];
+		return fail(err.status, { code: err.code, message: err.message, issues: err.issues, signError: words ?? err.message });
+	}
 	if (isAuthError(err)) return fail(err.status, { code: err.code, message: err.message, issues: [], signError: err.message });
 	throw err;
 }
@@ -23,4 +32,64 @@ export function masterJsonError(err: unknown): Response {
 	if (isMasterError(err)) return json({ message: err.message, code: err.code, issues: err.issues }, { status: err.status });
 	if (isAuthError(err)) return json({ message: err.message, code: err.code, issues: [] }, { status: err.status });
 	throw err;
+}
+
+function tooLarge(maxBytes: number): MasterError {
+	return new MasterError('too-large', `The request is larger than the ${(maxBytes / 1_000_000).toFixed(1)} MB allowed here; nothing was saved.`);
+}
+
+/**
+ * A request body, read up to `maxBytes` before anything parses it (OWASP ASVS 4.0.3 V12.1.1,
+ * from memory: no unbounded input): a declared content-length over the cap is refused unread,
+ * and the stream is cancelled the moment it passes the cap (a chunked body declares nothing).
+ * Throws MasterError 'too-large' (413).
+ */
+export async function readBodyCapped(request: Request, maxBytes: number): Promise<Uint8Array<ArrayBuffer>> {
+	const declared = Number(request.headers.get('content-length') ?? NaN);
+	if (Number.isFinite(declared) && declared > maxBytes) throw tooLarge(maxBytes);
+	const reader = request.body?.getReader();
+	if (!reader) return new Uint8Array();
+	const chunks: Uint8Array[] = [];
+	let size = 0;
+	for (;;) {
+		const { done, value } = await reader.read();
+		if (done) break;
+		size += value.byteLength;
+		if (size > maxBytes) {
+			await reader.cancel();
+			throw tooLarge(maxBytes);
+		}
+		chunks.push(value);
+	}
+	const out = new Uint8Array(size);
+	let at = 0;
+	for (const c of chunks) {
+		out.set(c, at);
+		at += c.byteLength;
+	}
+	return out;
+}
+
+/** A form body (multipart or urlencoded) parsed only after readBodyCapped read it within the cap. */
+export async function readFormCapped(request: Request, maxBytes: number): Promise<FormData> {
+	const bytes = await readBodyCapped(request, maxBytes);
+	try {
+		return await new Response(bytes, { headers: { 'content-type': request.headers.get('content-type') ?? '' } }).formData();
+	} catch {
+		throw new MasterError('invalid', 'The form could not be read.');
+	}
+}
+
+/**
+ * The named fields of a form as strings (each at most `maxChars`), to parse and to show again
+ * when refused: a File or an unknown name is dropped, so the answer is always serialisable and
+ * echoes nothing the form did not ask for.
+ */
+export function stringFields(form: FormData, names: readonly string[], maxChars = 400): Record<string, string> {
+	const out: Record<string, string> = {};
+	for (const name of names) {
+		const v = form.get(name);
+		if (typeof v === 'string') out[name] = v.slice(0, maxChars);
+	}
+	return out;
 }

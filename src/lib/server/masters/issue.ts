@@ -36,6 +36,26 @@ export interface IssuedBatch {
 	number: string;
 }
 
+/** The facts an "issued" signature binds, each rebuildable from the batch row and its master (11.70). */
+export interface IssueSignatureFacts {
+	batchId: string;
+	number: string;
+	masterRecordId: string;
+	code: string;
+	version: number;
+	snapshotHash: string;
+	batchSize: number;
+	batchSizeUnit: string;
+}
+
+/**
+ * What the "issued" signature of a batch binds (11.70), exported so a page can rebuild it and
+ * check the signature with isSignatureBound (signatures/query.ts).
+ */
+export function issueSignatureContent(f: IssueSignatureFacts) {
+	return { kind: 'batch-issue', batchId: f.batchId, number: f.number, masterRecordId: f.masterRecordId, code: f.code, version: f.version, snapshotHash: f.snapshotHash, batchSize: f.batchSize, batchSizeUnit: f.batchSizeUnit };
+}
+
 // Serialises issuance so two batches never take the same proposed number (an arbitrary constant
 // of our own, distinct from the ledger's); the unique index on batch.number is the last word.
 const ISSUE_LOCK_KEY = 7_305_118_188;
@@ -90,7 +110,7 @@ export async function issueBatch(db: Database, input: IssueBatchInput): Promise<
 				scaled,
 				issuedBy: input.user.id
 			});
-			const content = { kind: 'batch-issue', batchId, number, masterRecordId: locked.id, code: locked.code, version: locked.version, snapshotHash, batchSize: input.batchSize, batchSizeUnit: unit };
+			const content = issueSignatureContent({ batchId, number, masterRecordId: locked.id, code: locked.code, version: locked.version, snapshotHash, batchSize: input.batchSize, batchSizeUnit: unit });
 			await signRecord(uow, proof, { meaning: 'issued', entityType: 'batch', entityId: batchId, batchId, content });
 			await uow.audit({
 				action: 'batch.issue',

@@ -15,7 +15,7 @@ import { checkTransition, type MasterAction, type MasterStatus } from '$lib/doma
 import type { Template } from '$lib/schemas/template';
 import { MasterError } from './errors';
 import { assertPermission, permissionsOfUser } from './access';
-import { authorsOf, findMaster, templateOf } from './query';
+import { authorsOf, findMaster, masterSignatureContent, templateOf } from './query';
 
 /**
  * The master record services: create, import, edit a draft, and each lifecycle step (see
@@ -208,10 +208,7 @@ export async function saveDraft(db: Database, user: SessionUser, id: string, inp
 	});
 }
 
-/** What a lifecycle signature binds: the version and the hash of its exact content (11.70). */
-export function masterSignatureContent(row: Pick<MasterRecord, 'id' | 'code' | 'version' | 'templateHash'>, meaning: string) {
-	return { kind: 'master-record', meaning, masterRecordId: row.id, code: row.code, version: row.version, templateHash: row.templateHash };
-}
+export { masterSignatureContent };
 
 async function setStatus(uow: UnitOfWork, row: MasterRecord, status: MasterStatus, extra: PgUpdateSetSource<typeof masterRecord>, action: string, reason: string | null): Promise<void> {
 	await uow.tx

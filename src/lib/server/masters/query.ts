@@ -3,6 +3,7 @@ import type { Executor } from '../db/client';
 import { batch, masterRecord, signature, user, type MasterRecord } from '../db/schema';
 import type { Template } from '$lib/schemas/template';
 import type { MasterStatus } from '$lib/domain/master-lifecycle';
+import { isSignatureBound } from '../signatures/query';
 
 /** One row of the master list (GET /api/masters): never the whole template. */
 export interface MasterSummary {
@@ -61,16 +62,27 @@ export function authorsOf(row: Pick<MasterRecord, 'createdBy' | 'authors' | 'sub
 	return new Set([row.createdBy, row.submittedBy, ...row.authors].filter((x): x is string => typeof x === 'string'));
 }
 
+/** What a lifecycle signature binds: the version and the hash of its exact content (11.70). */
+export function masterSignatureContent(row: Pick<MasterRecord, 'id' | 'code' | 'version' | 'templateHash'>, meaning: string) {
+	return { kind: 'master-record', meaning, masterRecordId: row.id, code: row.code, version: row.version, templateHash: row.templateHash };
+}
+
 export interface MasterDetail extends MasterSummary {
 	template: Template;
 	basedOnId: string | null;
 	revision: number;
 	authors: { id: string; name: string }[];
+	/** Everyone who counts as an author of this version (authorsOf), for the approval rule. */
+	authorIds: string[];
 	submittedAt: string | null;
 	approvedAt: string | null;
 	supersededAt: string | null;
 	retiredAt: string | null;
-	signatures: { printedName: string; meaning: string; at: string; timeZone: string; method: string; contentHash: string }[];
+	/**
+	 * `bound`: the signed content, rebuilt from the stored row, still hashes to the signature's
+	 * content hash (11.70; 11.10(a): an altered record, or one signed on earlier content, shows).
+	 */
+	signatures: { printedName: string; meaning: string; at: string; timeZone: string; method: string; contentHash: string; bound: boolean }[];
 	batches: { id: string; number: string; status: string; issuedAt: string }[];
 }
 
@@ -96,11 +108,12 @@ export async function getMasterDetail(db: Executor, id: string): Promise<MasterD
 		basedOnId: row.basedOnId,
 		revision: row.revision,
 		authors: people,
+		authorIds: ids,
 		submittedAt: row.submittedAt?.toISOString() ?? null,
 		approvedAt: row.approvedAt?.toISOString() ?? null,
 		supersededAt: row.supersededAt?.toISOString() ?? null,
 		retiredAt: row.retiredAt?.toISOString() ?? null,
-		signatures: signatures.map((s) => ({ ...s, at: String(s.at) })),
+		signatures: signatures.map((s) => ({ ...s, at: String(s.at), bound: isSignatureBound(s, masterSignatureContent(row, s.meaning)) })),
 		batches: batches.map((b) => ({ ...b, issuedAt: b.issuedAt.toISOString() }))
 	};
 }

@@ -85,8 +85,10 @@ export async function verifySigner(db: Database, request: SignerRequest): Promis
 		if (credentials.username !== undefined && credentials.username.trim() !== '' && normaliseUsername(credentials.username) !== signer.username) {
 			return refusal('not-yourself', 'You can only sign as yourself: the username is not the one signed in.');
 		}
-		if (first && !credentials.username?.trim()) refuse('username-required', 'The first signature of a session needs your username and password.');
-		if (!credentials.password) refuse('invalid-input', 'Enter your password.');
+		// Both are audited refusals too: a signing attempt short of a credential is attempted misuse
+		// as much as a wrong one (11.300(d); finding 39). Neither counts toward the lockout.
+		if (first && !credentials.username?.trim()) return refusal('username-required', 'The first signature of a session needs your username and password.');
+		if (!credentials.password) return refusal('invalid-input', 'Enter your password.');
 		const ok = account.passwordHash ? await verifyPassword(account.passwordHash, credentials.password) : false;
 		if (!ok) {
 			const { locked } = await recordFailure(db, target);

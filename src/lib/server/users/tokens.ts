@@ -46,12 +46,17 @@ export async function createApiToken(
 	return { id, token, expiresAt };
 }
 
-export async function revokeApiToken(db: Database, admin: SessionUser, tokenId: string, reason: string): Promise<void> {
+/**
+ * Revokes one token of one account. The account is part of the match (finding 35): a form posted
+ * on one person's page cannot revoke another account's token by its id; it is "not found".
+ */
+export async function revokeApiToken(db: Database, admin: SessionUser, target: { userId: string; tokenId: string }, reason: string): Promise<void> {
+	const { userId, tokenId } = target;
 	await runUnitOfWork(db, actorOf(admin), async (uow) => {
 		const revoked = await uow.tx
 			.update(apiToken)
 			.set({ revokedAt: sql`now()` })
-			.where(and(eq(apiToken.id, tokenId), isNull(apiToken.revokedAt)))
+			.where(and(eq(apiToken.id, tokenId), eq(apiToken.userId, userId), isNull(apiToken.revokedAt)))
 			.returning({ id: apiToken.id, label: apiToken.label, userId: apiToken.userId });
 		if (revoked.length === 0) throw new AuthError('not-found', 'No such token, or it was already revoked.');
 		await uow.audit({ action: 'api-token.revoke', entityType: 'api-token', entityId: tokenId, after: { userId: revoked[0].userId, label: revoked[0].label, revoked: true }, reason });

@@ -5,7 +5,7 @@ import { requirePermission } from '$lib/server/auth/guard';
 import { hasPermission } from '$lib/domain/permissions';
 import { listMasters } from '$lib/server/masters/query';
 import { importMaster } from '$lib/server/masters/lifecycle';
-import { masterFailure } from '$lib/server/masters/http';
+import { masterFailure, readFormCapped } from '$lib/server/masters/http';
 import { readImportText } from '$lib/server/masters/import';
 
 export const load = (async (event) => {
@@ -14,15 +14,22 @@ export const load = (async (event) => {
 }) satisfies PageServerLoad;
 
 const MAX_IMPORT_BYTES = 2_000_000;
+// The whole multipart body is capped before it is parsed: the file plus room for its headers.
+const MAX_IMPORT_FORM_BYTES = MAX_IMPORT_BYTES + 64_000;
 
 export const actions = {
 	/** Imports a template file as a new draft; every problem is listed, nothing saved if there is one. */
 	import: async (event) => {
 		const user = requirePermission(event, 'master.author');
-		const form = await event.request.formData();
+		let form: FormData;
+		try {
+			form = await readFormCapped(event.request, MAX_IMPORT_FORM_BYTES);
+		} catch (err) {
+			return masterFailure(err);
+		}
 		const file = form.get('file');
 		if (!(file instanceof File) || file.size === 0) return fail(400, { code: 'invalid', message: 'Choose a file.', issues: [] });
-		if (file.size > MAX_IMPORT_BYTES) return fail(400, { code: 'invalid', message: 'The file is larger than 2 MB.', issues: [] });
+		if (file.size > MAX_IMPORT_BYTES) return fail(413, { code: 'too-large', message: 'The file is larger than 2 MB.', issues: [] });
 		const read = readImportText(await file.text());
 		if (!read.ok) return fail(400, { code: 'invalid', message: `The file has ${read.issues.length} problem(s); nothing was saved.`, issues: read.issues });
 		let created: { id: string };

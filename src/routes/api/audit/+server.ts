@@ -4,12 +4,10 @@ import { requirePermission } from '$lib/server/auth/guard';
 import { database } from '$lib/server/db';
 import { getConfig } from '$lib/server/config';
 import { listTrail, parseTrailQuery } from '$lib/server/audit/trail';
-import { ensureCheckpointSchedule } from '$lib/server/audit/schedule';
 
 /** GET /api/audit?limit=&cursor=&batch=&actor=&action=&entity=&from=&to=&q= → { events, nextCursor } (newest first). */
 export const GET: RequestHandler = async (event) => {
 	requirePermission(event, 'audit.read');
-	ensureCheckpointSchedule(database.db);
 	const parsed = parseTrailQuery(event.url.searchParams);
 	if (!parsed.success) error(400, { message: 'The filter is not valid.', issues: parsed.error.issues.map((i) => ({ path: i.path.join('.'), message: i.message })) });
 	const { limit, cursor, ...filter } = parsed.data;

@@ -7,6 +7,8 @@ import { relyingParty } from '$lib/server/auth/passkey';
 import { listBatches } from '$lib/server/batches/query';
 import { apiSignatureSchema, credentialsFrom, invalidBody, refusal } from '$lib/server/batches/http';
 import { issueBatch } from '$lib/server/masters/issue';
+import { SMALL_BODY_MAX_BYTES, readCappedJson } from '$lib/server/batches/body';
+import { clientAddress } from '$lib/server/auth/request';
 
 /** Every batch with its product, status and progress (batch.read). */
 export const GET: RequestHandler = async (event) => {
@@ -25,9 +27,9 @@ const issueSchema = z.strictObject({
 /** Issues a batch record from an effective master (QA, signed "issued"; the masters area's issueBatch). */
 export const POST: RequestHandler = async (event) => {
 	const user = requirePermission(event, 'batch.issue');
-	const parsed = issueSchema.safeParse(await event.request.json().catch(() => null));
-	if (!parsed.success) return invalidBody(parsed.error);
 	try {
+		const parsed = issueSchema.safeParse(await readCappedJson(event.request, SMALL_BODY_MAX_BYTES));
+		if (!parsed.success) return invalidBody(parsed.error);
 		const issued = await issueBatch(database.db, {
 			user,
 			session: event.locals.session,
@@ -35,7 +37,7 @@ export const POST: RequestHandler = async (event) => {
 			batchNumber: parsed.data.batchNumber,
 			batchSize: parsed.data.batchSize,
 			credentials: credentialsFrom(parsed.data.signature),
-			address: event.getClientAddress(),
+			address: clientAddress(event),
 			relyingParty: relyingParty(event.url)
 		});
 		return json(issued, { status: 201 });

@@ -6,7 +6,7 @@ import { requirePermission } from '$lib/server/auth/guard';
 import { masterStatus } from '$lib/server/db/schema';
 import { listMasters } from '$lib/server/masters/query';
 import { importMaster } from '$lib/server/masters/lifecycle';
-import { masterJsonError } from '$lib/server/masters/http';
+import { masterJsonError, readBodyCapped } from '$lib/server/masters/http';
 import { readImport } from '$lib/server/masters/import';
 
 const filterSchema = z.object({ status: z.enum(masterStatus).optional(), code: z.string().max(40).optional() });
@@ -20,16 +20,25 @@ export const GET: RequestHandler = async (event) => {
 	return json(rows.map((r) => ({ id: r.id, code: r.code, product: r.product, version: r.version, status: r.status, templateHash: r.templateHash, effectiveAt: r.effectiveAt })));
 };
 
+// The same cap as a template file imported on the masters page (2 MB), read before parsing.
+const MAX_IMPORT_BODY_BYTES = 2_000_000;
+
 /**
  * Imports a template as a new draft (master.author): an export file or a bare template in the
  * body. 201 `{ id, version, renumbered, templateHash }`, or 400 `{ message, issues }` naming every
- * problem (Annex 11, 5), 409 when the product has an open version.
+ * problem (Annex 11, 5), 409 when the product has an open version, 413 over 2 MB (refused before it is parsed).
  */
 export const POST: RequestHandler = async (event) => {
 	const user = requirePermission(event, 'master.author');
+	let text: string;
+	try {
+		text = new TextDecoder().decode(await readBodyCapped(event.request, MAX_IMPORT_BODY_BYTES));
+	} catch (err) {
+		return masterJsonError(err);
+	}
 	let body: unknown;
 	try {
-		body = await event.request.json();
+		body = JSON.parse(text);
 	} catch {
 		return json({ message: 'The body is not JSON.', issues: [{ path: [], code: 'import.not-json', message: 'the body is not JSON' }] }, { status: 400 });
 	}

@@ -52,6 +52,8 @@ export const cycleRun = pgTable(
 		fileName: text('file_name').notNull(),
 		fileSha256: text('file_sha256').notNull(),
 		fileBytes: integer('file_bytes').notNull(),
+		/** hashSeries of the stored series, fixed at import (null: a run imported before 0014, backfilled there) */
+		seriesSha256: text('series_sha256'),
 		mapping: jsonb('mapping').notNull(),
 		/** the recipe the run was checked against (null: analysed without one) */
 		recipe: jsonb('recipe'),

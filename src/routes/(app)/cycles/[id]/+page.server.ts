@@ -8,9 +8,8 @@ import { buildChartOverlay } from '$lib/domain/lyo/overlay';
 import { planPhaseDurations } from '$lib/domain/lyo/recipe';
 import { getRun } from '$lib/server/cycles/runs';
 import { loadSeriesCached } from '$lib/server/cycles/series-store';
-import { LeakTestError, listLeakTests, recordLeakTest } from '$lib/server/cycles/leak';
+import { LeakTestError, listLeakTests, recordRunLeakTest } from '$lib/server/cycles/leak';
 import { getEquipment, lyophilizerPropertiesSchema } from '$lib/server/equipment/registry';
-import { runUnitOfWork } from '$lib/server/work';
 
 export const load = (async (event) => {
 	const user = requirePermission(event, 'cycle.read');
@@ -61,17 +60,15 @@ export const load = (async (event) => {
 export const actions = {
 	leak: async (event) => {
 		const user = requirePermission(event, 'cycle.upload');
-		const run = await getRun(database.db, event.params.id);
-		if (!run) error(404, { message: 'No such run.' });
 		const form = await event.request.formData();
 		const fromS = Number(form.get('fromH')) * 3600;
 		const toS = Number(form.get('toH')) * 3600;
 		if (!Number.isFinite(fromS) || !Number.isFinite(toS) || !(toS > fromS)) return fail(400, { message: 'Give a window with its end after its start.' });
 		try {
-			await runUnitOfWork(database.db, { id: user.id, name: user.name }, (uow) => recordLeakTest(uow, run.equipmentId, { method: 'fit', runId: run.id, fromS, toS }));
+			await recordRunLeakTest(database.db, { id: user.id, name: user.name }, event.params.id, { fromS, toS });
 			return { saved: true };
 		} catch (e) {
-			if (e instanceof LeakTestError) return fail(400, { message: e.message });
+			if (e instanceof LeakTestError) return fail(e.status === 404 ? 404 : 400, { message: e.message });
 			throw e;
 		}
 	}

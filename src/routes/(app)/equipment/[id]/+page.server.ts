@@ -4,12 +4,10 @@ import type { Actions, PageServerLoad } from './$types';
 import { database } from '$lib/server/db';
 import { requirePermission } from '$lib/server/auth/guard';
 import { hasPermission } from '$lib/domain/permissions';
-import { addInstrument, changeStatus, EquipmentError, getEquipment, listEquipmentEvents, listInstruments, recordCalibration } from '$lib/server/equipment/registry';
+import { applyEquipmentChange, EquipmentError, getEquipment, listEquipmentEvents, listInstruments, type EquipmentChange } from '$lib/server/equipment/registry';
 import { checkEquipmentUsableById, siteToday } from '$lib/server/equipment/usable';
 import { listRuns } from '$lib/server/cycles/runs';
 import { listMappings } from '$lib/server/cycles/mappings';
-import { runUnitOfWork } from '$lib/server/work';
-import type { UnitOfWork } from '$lib/server/work';
 
 export const load = (async (event) => {
 	const user = requirePermission(event, 'equipment.read');
@@ -36,12 +34,12 @@ export const load = (async (event) => {
 
 type Form = Record<string, string>;
 
-/** Runs one registry change for a form action: 400 with the message for an expected refusal. */
-async function act(event: Parameters<Actions[string]>[0], work: (uow: UnitOfWork, form: Form) => Promise<unknown>) {
+/** Parses the form, applies one registry change: 400 with the message for an expected refusal. */
+async function act(event: Parameters<Actions[string]>[0], changeOf: (form: Form) => EquipmentChange) {
 	const user = requirePermission(event, 'equipment.manage');
 	const form = Object.fromEntries([...(await event.request.formData()).entries()].map(([k, v]) => [k, String(v)])) as Form;
 	try {
-		await runUnitOfWork(database.db, { id: user.id, name: user.name }, (uow) => work(uow, form));
+		await applyEquipmentChange(database.db, { id: user.id, name: user.name }, event.params.id, changeOf(form));
 		return { saved: true };
 	} catch (e) {
 		if (e instanceof EquipmentError) return fail(e.status === 404 ? 404 : 400, { message: e.message });
@@ -53,11 +51,12 @@ async function act(event: Parameters<Actions[string]>[0], work: (uow: UnitOfWork
 const target = (form: Form) => (form.target && form.target !== 'equipment' ? form.target : null);
 
 export const actions = {
-	status: (event) => act(event, (uow, f) => changeStatus(uow, event.params.id, target(f), { status: f.status as never, reason: f.reason })),
+	status: (event) => act(event, (f) => ({ kind: 'status', instrumentId: target(f), input: { status: f.status as never, reason: f.reason } })),
 	calibrate: (event) =>
-		act(event, (uow, f) => recordCalibration(uow, event.params.id, target(f), { calibratedOn: f.calibratedOn, calibrationDueOn: f.calibrationDueOn, reference: f.reference, reason: f.reason })),
+		act(event, (f) => ({ kind: 'calibration', instrumentId: target(f), input: { calibratedOn: f.calibratedOn, calibrationDueOn: f.calibrationDueOn, reference: f.reference, reason: f.reason } })),
 	addInstrument: (event) =>
-		act(event, (uow, f) =>
-			addInstrument(uow, event.params.id, { tag: f.tag, name: f.name, role: f.role as never, calibratedOn: f.calibratedOn || null, calibrationDueOn: f.calibrationDueOn || null, reason: f.reason })
-		)
+		act(event, (f) => ({
+			kind: 'instrument',
+			input: { tag: f.tag, name: f.name, role: f.role as never, calibratedOn: f.calibratedOn || null, calibrationDueOn: f.calibrationDueOn || null, reason: f.reason }
+		}))
 } satisfies Actions;

@@ -7,7 +7,7 @@ import { relyingParty } from '$lib/server/auth/passkey';
 import { clientAddress } from '$lib/server/auth/request';
 import type { Permission } from '$lib/domain/permissions';
 import { readSignatureCredentials, signingContext } from '$lib/server/signatures/credentials';
-import { authorsOf, findMaster, getMasterDetail, listMasters } from '$lib/server/masters/query';
+import { getMasterDetail, listMasters } from '$lib/server/masters/query';
 import { approveMaster, createNewVersion, makeEffective, retireMaster, returnMaster, submitMaster } from '$lib/server/masters/lifecycle';
 import { permissionsOfUser } from '$lib/server/masters/access';
 import { masterFailure } from '$lib/server/masters/http';
@@ -19,12 +19,12 @@ export const load = (async (event) => {
 	const db = database.db;
 	const detail = await getMasterDetail(db, event.params.id);
 	if (!detail) error(404, { message: 'No such master record.' });
-	const row = (await findMaster(db, detail.id))!;
-	const isAuthor = authorsOf(row).has(user.id);
+	const { authorIds, ...master } = detail;
+	const isAuthor = authorIds.includes(user.id);
 	const actions = listAvailableActions(detail.status, { permissions: permissionsOfUser(user, ['master.read', 'master.author', 'master.approve', 'master.return', 'batch.issue']), isAuthor });
 	const versions = (await listMasters(db, { code: detail.code })).map((v) => ({ id: v.id, version: v.version, status: v.status }));
 	return {
-		master: detail,
+		master,
 		actions,
 		versions,
 		intact: hashTemplate(detail.template) === detail.templateHash,
@@ -42,7 +42,7 @@ async function signed(event: RequestEvent, permission: Permission, work: (input:
 		const credentials = readSignatureCredentials(form);
 		await work({ user, session, credentials, address: clientAddress(event), relyingParty: relyingParty(event.url), id: event.params.id });
 	} catch (err) {
-		return masterFailure(err);
+		return masterFailure(err, event.locals.locale);
 	}
 	return { done };
 }

@@ -64,6 +64,6 @@ export const actions = {
 		run(event, 'revokeToken', reasonSchema, async (admin, input, form) => {
 			const tokenId = form.get('tokenId');
 			if (typeof tokenId !== 'string' || !tokenId) error(400, { message: 'Which token?' });
-			await revokeApiToken(database.db, admin, tokenId, input.reason);
+			await revokeApiToken(database.db, admin, { userId: event.params.id, tokenId }, input.reason);
 		})
 } satisfies Actions;

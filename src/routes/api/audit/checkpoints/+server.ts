@@ -3,11 +3,9 @@ import type { RequestHandler } from './$types';
 import { requirePermission } from '$lib/server/auth/guard';
 import { database } from '$lib/server/db';
 import { listCheckpoints } from '$lib/server/audit/checkpoint';
-import { ensureCheckpointSchedule } from '$lib/server/audit/schedule';
 
 /** GET /api/audit/checkpoints → { checkpoints: SignedCheckpoint[] } (newest first). */
 export const GET: RequestHandler = async (event) => {
 	requirePermission(event, 'audit.read');
-	ensureCheckpointSchedule(database.db);
 	return json({ checkpoints: await listCheckpoints(database.db) });
 };

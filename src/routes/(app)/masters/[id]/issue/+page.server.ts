@@ -38,7 +38,7 @@ export const actions = {
 			const issued = await issueBatch(database.db, { user, session, masterRecordId: event.params.id, batchNumber, batchSize, credentials, address: clientAddress(event), relyingParty: relyingParty(event.url) });
 			return { issued };
 		} catch (err) {
-			return masterFailure(err);
+			return masterFailure(err, event.locals.locale);
 		}
 	},
 	/** Changes the site's numbering pattern (QA, with a reason; audited). */

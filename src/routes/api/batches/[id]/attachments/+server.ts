@@ -7,6 +7,7 @@ import { baseType } from '$lib/server/blobs/policy';
 import { uploadAttachment, uploadLimit } from '$lib/server/batches/attachments';
 import { ExecutionError } from '$lib/server/batches/errors';
 import { refusal } from '$lib/server/batches/http';
+import { readCapped } from '$lib/server/batches/body';
 
 /**
  * Uploads a file to a step: the raw bytes as the body, `content-type` its type, `x-step-key`,
@@ -19,15 +20,14 @@ export const POST: RequestHandler = async (event) => {
 	const fieldKey = event.request.headers.get('x-field-key') || null;
 	try {
 		const { maxBytes } = await uploadLimit(database.db, event.params.id, stepKey, fieldKey);
-		const declared = Number(event.request.headers.get('content-length') ?? '0');
-		if (declared > maxBytes) throw new ExecutionError('file-too-large', `The file is larger than the ${maxBytes / 1048576} MB allowed here.`);
-		const bytes = await readCapped(event.request, maxBytes);
+		const filename = readFilename(event.request.headers.get('x-filename'));
+		const bytes = await readCapped(event.request, maxBytes, 'file');
 		const result = await uploadAttachment(database.db, blobStore(), {
 			user,
 			batchId: event.params.id,
 			stepKey,
 			fieldKey,
-			filename: decodeURIComponent(event.request.headers.get('x-filename') ?? 'file'),
+			filename,
 			contentType: baseType(event.request.headers.get('content-type')),
 			bytes
 		});
@@ -37,27 +37,13 @@ export const POST: RequestHandler = async (event) => {
 	}
 };
 
-/** Reads the body but stops as soon as it passes the limit (no unbounded buffering). */
-async function readCapped(request: Request, maxBytes: number): Promise<Uint8Array> {
-	const reader = request.body?.getReader();
-	if (!reader) return new Uint8Array();
-	const chunks: Uint8Array[] = [];
-	let size = 0;
-	for (;;) {
-		const { done, value } = await reader.read();
-		if (done) break;
-		size += value.byteLength;
-		if (size > maxBytes) {
-			await reader.cancel();
-			throw new ExecutionError('file-too-large', `The file is larger than the ${maxBytes / 1048576} MB allowed here.`);
-		}
-		chunks.push(value);
+/** The URI-encoded x-filename header; a malformed escape is the client's mistake (400), not a crash. */
+function readFilename(header: string | null): string {
+	if (header === null) return 'file';
+	if (header.length > 2000) throw new ExecutionError('invalid-input', 'The x-filename header is too long.');
+	try {
+		return decodeURIComponent(header);
+	} catch {
+		throw new ExecutionError('invalid-input', 'The x-filename header is not URI-encoded text.');
 	}
-	const out = new Uint8Array(size);
-	let at = 0;
-	for (const c of chunks) {
-		out.set(c, at);
-		at += c.byteLength;
-	}
-	return out;
 }

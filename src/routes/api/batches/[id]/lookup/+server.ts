@@ -2,7 +2,7 @@ import { error, json } from '@sveltejs/kit';
 import type { RequestHandler } from './$types';
 import { database } from '$lib/server/db';
 import { requirePermission } from '$lib/server/auth/guard';
-import { findEquipment, findLot } from '$lib/server/batches/lookups';
+import { batchItemCodes, findEquipment, findLot } from '$lib/server/batches/lookups';
 import { checkEquipmentUsableById } from '$lib/server/equipment/usable';
 import { dateInZone } from '$lib/domain/time';
 import { getConfig } from '$lib/server/config';
@@ -15,8 +15,13 @@ export const GET: RequestHandler = async (event) => {
 	requirePermission(event, 'batch.execute');
 	const lot = event.url.searchParams.get('lot');
 	const code = event.url.searchParams.get('equipment');
+	// The lookup is for this batch: it must exist, and a lot is checked only against an item its template names.
+	const items = await batchItemCodes(database.db, event.params.id);
+	if (!items) error(404, { message: 'There is no such batch.' });
 	if (lot) {
-		const found = await findLot(database.db, lot.slice(0, 80), event.url.searchParams.get('item') ?? undefined);
+		const item = event.url.searchParams.get('item') ?? undefined;
+		if (item !== undefined && (item.length > 40 || !items.has(item))) error(400, { message: 'That item is not one this batch uses.' });
+		const found = await findLot(database.db, lot.slice(0, 80), item);
 		return json({ lot: found ? { lotNumber: found.lotNumber, itemCode: found.itemCode, itemName: found.itemName, status: found.status, expiresOn: found.expiresOn } : null });
 	}
 	if (code) {

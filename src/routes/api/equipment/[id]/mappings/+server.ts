@@ -2,10 +2,9 @@ import { error, json } from '@sveltejs/kit';
 import type { RequestHandler } from './$types';
 import { requirePermission } from '$lib/server/auth/guard';
 import { database } from '$lib/server/db';
-import { listMappings, saveMapping, saveMappingSchema } from '$lib/server/cycles/mappings';
-import { getEquipment } from '$lib/server/equipment/registry';
-import { runUnitOfWork } from '$lib/server/work';
+import { listMappings, saveLyophilizerMapping, saveMappingSchema } from '$lib/server/cycles/mappings';
 import { describeMappingIssues } from '$lib/domain/lyo/mapping';
+import { describeRunError, readJsonBody } from '$lib/server/cycles/upload';
 
 /** GET /api/equipment/<id>/mappings → { mappings } saved for this lyophilizer. */
 export const GET: RequestHandler = async (event) => {
@@ -16,10 +15,17 @@ export const GET: RequestHandler = async (event) => {
 /** POST /api/equipment/<id>/mappings { name, mapping } → the saved mapping (same name: replaced). */
 export const POST: RequestHandler = async (event) => {
 	const user = requirePermission(event, 'cycle.upload');
-	const dryer = await getEquipment(database.db, event.params.id);
-	if (!dryer || dryer.class !== 'lyophilizer') error(404, { message: 'No such lyophilizer.' });
-	const body = saveMappingSchema.safeParse(await event.request.json().catch(() => null));
+	let raw: unknown;
+	try {
+		raw = await readJsonBody(event.request);
+	} catch (e) {
+		const refusal = describeRunError(e);
+		if (refusal) return json(refusal.body, { status: refusal.status });
+		throw e;
+	}
+	const body = saveMappingSchema.safeParse(raw);
 	if (!body.success) return json({ message: `The mapping is not valid: ${describeMappingIssues(body.error).join('; ')}` }, { status: 400 });
-	const saved = await runUnitOfWork(database.db, { id: user.id, name: user.name }, (uow) => saveMapping(uow, dryer.id, body.data));
+	const saved = await saveLyophilizerMapping(database.db, { id: user.id, name: user.name }, event.params.id, body.data);
+	if (!saved) error(404, { message: 'No such lyophilizer.' });
 	return json(saved, { status: 201 });
 };

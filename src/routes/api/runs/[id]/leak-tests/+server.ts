@@ -1,11 +1,10 @@
-import { error, json } from '@sveltejs/kit';
+import { json } from '@sveltejs/kit';
 import { z } from 'zod';
 import type { RequestHandler } from './$types';
 import { requirePermission } from '$lib/server/auth/guard';
 import { database } from '$lib/server/db';
-import { getRun } from '$lib/server/cycles/runs';
-import { LeakTestError, listLeakTests, recordLeakTest } from '$lib/server/cycles/leak';
-import { runUnitOfWork } from '$lib/server/work';
+import { LeakTestError, listLeakTests, recordRunLeakTest } from '$lib/server/cycles/leak';
+import { describeRunError, readJsonBody } from '$lib/server/cycles/upload';
 
 const bodySchema = z.object({ fromS: z.number(), toS: z.number() });
 
@@ -18,17 +17,15 @@ export const GET: RequestHandler = async (event) => {
 /** POST /api/runs/<id>/leak-tests { fromS, toS } → the recorded pressure-rise test (fit of the manometer). */
 export const POST: RequestHandler = async (event) => {
 	const user = requirePermission(event, 'cycle.upload');
-	const run = await getRun(database.db, event.params.id);
-	if (!run) error(404, { message: 'No such run.' });
-	const body = bodySchema.safeParse(await event.request.json().catch(() => null));
-	if (!body.success) error(400, { message: 'Send { fromS, toS } in seconds from the log start.' });
 	try {
-		const test = await runUnitOfWork(database.db, { id: user.id, name: user.name }, (uow) =>
-			recordLeakTest(uow, run.equipmentId, { method: 'fit', runId: run.id, ...body.data })
-		);
+		const body = bodySchema.safeParse(await readJsonBody(event.request));
+		if (!body.success) return json({ message: 'Send { fromS, toS } in seconds from the log start.' }, { status: 400 });
+		const test = await recordRunLeakTest(database.db, { id: user.id, name: user.name }, event.params.id, body.data);
 		return json(test, { status: 201 });
 	} catch (e) {
 		if (e instanceof LeakTestError) return json({ message: e.message }, { status: e.status });
+		const refusal = describeRunError(e);
+		if (refusal) return json(refusal.body, { status: refusal.status });
 		throw e;
 	}
 };

@@ -17,6 +17,10 @@ import { getConfig } from '$lib/server/config';
 import { blobLimits } from '$lib/server/blobs/policy';
 import type { Template } from '$lib/schemas/template';
 import { listStepRuns } from '$lib/server/batches/runs';
+import { entryValuesSchema } from '$lib/server/batches/http';
+import { ENTRY_BODY_MAX_BYTES, readCappedForm } from '$lib/server/batches/body';
+import { clientAddress } from '$lib/server/auth/request';
+import { messagesFor, type Locale } from '$lib/i18n';
 
 export const load = (async (event) => {
 	const user = requirePermission(event, 'batch.read');
@@ -50,16 +54,20 @@ export const load = (async (event) => {
 }) satisfies PageServerLoad;
 
 const payloadSchema = z.object({
-	values: z.record(z.string(), z.unknown()).default({}),
+	values: entryValuesSchema.default({}),
 	comment: z.string().max(2000).optional(),
 	reasonCode: z.string().max(40).optional(),
 	workedAt: z.string().max(40).optional(),
 	version: z.number().int().positive()
 });
 
-/** A refusal the SignDialog shows as it is (codes of its own are the ceremony's). */
-function refused(err: unknown) {
-	if (isExecutionError(err)) return fail(err.status, { signError: err.message, code: `batch-${err.code}`, issues: err.issues });
+/**
+ * A refusal for the SignDialog: execution codes in the person's language from the catalogue
+ * (m.batches.errors), the server's wording only for a code it has no message for; the
+ * ceremony's own codes the dialog translates itself (m.auth.errors).
+ */
+function refused(err: unknown, locale: Locale) {
+	if (isExecutionError(err)) return fail(err.status, { signError: messagesFor(locale).batches.errors[err.code] ?? err.message, code: `batch-${err.code}`, issues: err.issues });
 	if (err instanceof AuthError) return fail(err.status, { signError: err.message, code: err.code });
 	throw err;
 }
@@ -75,15 +83,22 @@ function readPayload(form: FormData) {
 export const actions = {
 	enter: async (event) => {
 		const user = requirePermission(event, 'batch.execute');
-		const form = await event.request.formData();
+		const m = messagesFor(event.locals.locale);
+		let form: FormData;
+		try {
+			// Capped before it is parsed: formData() alone would buffer any size.
+			form = await readCappedForm(event.request, ENTRY_BODY_MAX_BYTES);
+		} catch (err) {
+			return refused(err, event.locals.locale);
+		}
 		const parsed = readPayload(form);
-		if (!parsed.success) return fail(400, { signError: 'The entry could not be read. Reload the page and try again.', code: 'batch-invalid-input' });
+		if (!parsed.success) return fail(400, { signError: m.batches.errors['invalid-input'], code: 'batch-invalid-input' });
 		try {
 			const credentials = readSignatureCredentials(form);
 			const r = await recordStepEntry(database.db, {
 				user,
 				session: event.locals.session,
-				address: event.getClientAddress(),
+				address: clientAddress(event),
 				relyingParty: relyingParty(event.url),
 				batchId: event.params.id,
 				stepKey: event.params.stepKey,
@@ -96,19 +111,24 @@ export const actions = {
 			});
 			return { saved: true, deviations: r.deviations };
 		} catch (err) {
-			return refused(err);
+			return refused(err, event.locals.locale);
 		}
 	},
 	verify: async (event) => {
 		const user = requirePermission(event, 'batch.verify');
-		const form = await event.request.formData();
+		let form: FormData;
+		try {
+			form = await readCappedForm(event.request, ENTRY_BODY_MAX_BYTES);
+		} catch (err) {
+			return refused(err, event.locals.locale);
+		}
 		const parsed = readPayload(form);
-		if (!parsed.success) return fail(400, { signError: 'The request could not be read. Reload the page and try again.', code: 'batch-invalid-input' });
+		if (!parsed.success) return fail(400, { signError: messagesFor(event.locals.locale).batches.errors['invalid-input'], code: 'batch-invalid-input' });
 		try {
 			await verifyStep(database.db, {
 				user,
 				session: event.locals.session,
-				address: event.getClientAddress(),
+				address: clientAddress(event),
 				relyingParty: relyingParty(event.url),
 				batchId: event.params.id,
 				stepKey: event.params.stepKey,
@@ -117,7 +137,7 @@ export const actions = {
 			});
 			return { verified: true };
 		} catch (err) {
-			return refused(err);
+			return refused(err, event.locals.locale);
 		}
 	}
 } satisfies Actions;

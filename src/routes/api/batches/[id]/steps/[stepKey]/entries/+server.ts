@@ -5,6 +5,8 @@ import { requirePermission } from '$lib/server/auth/guard';
 import { relyingParty } from '$lib/server/auth/passkey';
 import { recordStepEntry } from '$lib/server/batches/entries';
 import { credentialsFrom, entryBodySchema, invalidBody, refusal } from '$lib/server/batches/http';
+import { ENTRY_BODY_MAX_BYTES, readCappedJson } from '$lib/server/batches/body';
+import { clientAddress } from '$lib/server/auth/request';
 
 /**
  * Records a step (or a correction, with `reasonCode` and `version`), signed "performed": the
@@ -13,14 +15,15 @@ import { credentialsFrom, entryBodySchema, invalidBody, refusal } from '$lib/ser
  */
 export const POST: RequestHandler = async (event) => {
 	const user = requirePermission(event, 'batch.execute');
-	const parsed = entryBodySchema.safeParse(await event.request.json().catch(() => null));
-	if (!parsed.success) return invalidBody(parsed.error);
-	const body = parsed.data;
 	try {
+		// The body is capped before it is parsed (no unbounded buffering).
+		const parsed = entryBodySchema.safeParse(await readCappedJson(event.request, ENTRY_BODY_MAX_BYTES));
+		if (!parsed.success) return invalidBody(parsed.error);
+		const body = parsed.data;
 		const result = await recordStepEntry(database.db, {
 			user,
 			session: event.locals.session,
-			address: event.getClientAddress(),
+			address: clientAddress(event),
 			relyingParty: relyingParty(event.url),
 			batchId: event.params.id,
 			stepKey: event.params.stepKey,

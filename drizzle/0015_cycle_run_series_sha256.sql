@@ -1,0 +1,1 @@
+ALTER TABLE "cycle_run" ADD COLUMN "series_sha256" text;
