@@ -3,6 +3,7 @@ import { isAuthError } from '../auth/errors';
 import type { TemplateIssue } from '$lib/domain/template';
 import { isMasterError, MasterError } from './errors';
 import { messagesFor, type Locale } from '$lib/i18n';
+import { parseFormBytes, readBodyCapped as readCappedBytes } from '../http/body';
 
 export interface MasterFailure {
 	code: string;
@@ -38,46 +39,16 @@ function tooLarge(maxBytes: number): MasterError {
 	return new MasterError('too-large', `The request is larger than the ${(maxBytes / 1_000_000).toFixed(1)} MB allowed here; nothing was saved.`);
 }
 
-/**
- * A request body, read up to `maxBytes` before anything parses it (OWASP ASVS 4.0.3 V12.1.1,
- * from memory: no unbounded input): a declared content-length over the cap is refused unread,
- * and the stream is cancelled the moment it passes the cap (a chunked body declares nothing).
- * Throws MasterError 'too-large' (413).
- */
-export async function readBodyCapped(request: Request, maxBytes: number): Promise<Uint8Array<ArrayBuffer>> {
-	const declared = Number(request.headers.get('content-length') ?? NaN);
-	if (Number.isFinite(declared) && declared > maxBytes) throw tooLarge(maxBytes);
-	const reader = request.body?.getReader();
-	if (!reader) return new Uint8Array();
-	const chunks: Uint8Array[] = [];
-	let size = 0;
-	for (;;) {
-		const { done, value } = await reader.read();
-		if (done) break;
-		size += value.byteLength;
-		if (size > maxBytes) {
-			await reader.cancel();
-			throw tooLarge(maxBytes);
-		}
-		chunks.push(value);
-	}
-	const out = new Uint8Array(size);
-	let at = 0;
-	for (const c of chunks) {
-		out.set(c, at);
-		at += c.byteLength;
-	}
-	return out;
+/** A request body read within `maxBytes` before anything parses it (../http/body.ts); MasterError 'too-large' (413). */
+export function readBodyCapped(request: Request, maxBytes: number): Promise<Uint8Array<ArrayBuffer>> {
+	return readCappedBytes(request, maxBytes, () => tooLarge(maxBytes));
 }
 
-/** A form body (multipart or urlencoded) parsed only after readBodyCapped read it within the cap. */
+/** A form body (multipart or urlencoded) parsed only after it was read within the cap. */
 export async function readFormCapped(request: Request, maxBytes: number): Promise<FormData> {
-	const bytes = await readBodyCapped(request, maxBytes);
-	try {
-		return await new Response(bytes, { headers: { 'content-type': request.headers.get('content-type') ?? '' } }).formData();
-	} catch {
-		throw new MasterError('invalid', 'The form could not be read.');
-	}
+	const form = await parseFormBytes(await readBodyCapped(request, maxBytes), request.headers.get('content-type'));
+	if (!form) throw new MasterError('invalid', 'The form could not be read.');
+	return form;
 }
 
 /**
