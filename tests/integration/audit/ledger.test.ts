@@ -90,6 +90,7 @@ describe.runIf(databaseKinds.includes('postgresql'))('20 concurrent connections 
 	beforeAll(async () => {
 		t = await createTestDatabase('postgresql');
 		pool = new pg.Pool({ connectionString: t.url, max: 20 });
+		pool.on('connect', (client) => client.on('error', () => {}));
 	});
 	afterAll(async () => {
 		await pool?.end();

@@ -53,6 +53,14 @@ export async function createTestDatabase(kind: 'pglite' | 'postgresql', options:
 			await handle.close();
 			const drop = new pg.Client({ connectionString: base });
 			await drop.connect();
+			// pool.end() resolves before its sockets have closed: wait for the backends to go, so the
+			// forced drop below terminates nobody a test still holds (that would surface as an
+			// uncaught "terminating connection" error in whichever test runs next).
+			for (let i = 0; i < 50; i++) {
+				const { rows } = await drop.query('select count(*)::int as n from pg_stat_activity where datname = $1', [name]);
+				if (rows[0].n === 0) break;
+				await new Promise((r) => setTimeout(r, 100));
+			}
 			await drop.query(`drop database if exists ${name} with (force)`);
 			await drop.end();
 		}

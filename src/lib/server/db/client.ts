@@ -90,6 +90,9 @@ function openServer(url: string): DatabaseHandle {
 	const pool = new pg.Pool({ connectionString: url, max: 10 });
 	// An idle client that loses its connection must not crash the process.
 	pool.on('error', (err) => console.error('[db] idle PostgreSQL client error:', err.message));
+	// A client the pool is already closing has lost the pool's listener; a server that terminates
+	// it then (restart, failover) must not crash the process either.
+	pool.on('connect', (client) => client.on('error', (err) => console.error('[db] PostgreSQL connection error:', err.message)));
 	const db = drizzlePg(pool, { schema }) as unknown as Database;
 	const where = safeLocation(url);
 	return {
