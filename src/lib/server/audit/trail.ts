@@ -2,6 +2,7 @@ import { z } from 'zod';
 import { and, desc, eq, gte, ilike, lt, lte, or, sql, type SQL } from 'drizzle-orm';
 import type { Executor } from '../db/client';
 import { auditEvent } from '../db/schema';
+import type { HashedEvent } from './ledger';
 
 /**
  * The inspector's reading of the trail (21 CFR 11.10(e) "available for agency review and
@@ -27,18 +28,8 @@ export const trailPageSchema = trailFilterSchema.extend({
 		.optional()
 });
 
-export interface TrailEvent {
-	seq: number;
-	at: string;
-	actorId: string | null;
-	actorName: string;
-	action: string;
-	entityType: string;
-	entityId: string | null;
-	batchId: string | null;
-	before: unknown;
-	after: unknown;
-	reason: string | null;
+/** A stored event as the trail shows it: the hashed fields and the chain links. */
+export interface TrailEvent extends HashedEvent {
 	prevHash: string;
 	hash: string;
 }

@@ -166,7 +166,7 @@ export async function signRecord(uow: UnitOfWork, proof: SignerProof, subject: S
 		batchId: subject.batchId ?? null,
 		after: { signatureId: id, signerId: proof.signer.id, printedName, meaning: subject.meaning, method: proof.method, timeZone, contentHash }
 	});
-	await uow.tx.insert(signature).values({
+	const record: SignatureRecord = {
 		id,
 		signerId: proof.signer.id,
 		printedName,
@@ -180,23 +180,11 @@ export async function signRecord(uow: UnitOfWork, proof: SignerProof, subject: S
 		batchId: subject.batchId ?? null,
 		contentHash,
 		auditSeq: appended.seq
-	});
+	};
+	await uow.tx.insert(signature).values(record);
 	await uow.tx
 		.update(sessionTable)
 		.set({ firstSignedAt: sql`coalesce(${sessionTable.firstSignedAt}, now())` })
 		.where(eq(sessionTable.id, proof.sessionId));
-	return {
-		id,
-		signerId: proof.signer.id,
-		printedName,
-		meaning: subject.meaning,
-		at: appended.at,
-		timeZone,
-		method: proof.method,
-		entityType: subject.entityType,
-		entityId: subject.entityId,
-		batchId: subject.batchId ?? null,
-		contentHash,
-		auditSeq: appended.seq
-	};
+	return record;
 }
