@@ -38,6 +38,13 @@ describe('pressure', () => {
 		// lyophilization.md (BIPM SI Brochure): µbar = 0.1 Pa exactly
 		expect(toCanonical(1, 'ubar')).toBe(0.1);
 		expect(toCanonical(1000, 'ubar')).toBe(100);
+		// NIST SP 811 B.8: bar → pascal 1.0 E+05 (exact); SI prefix kilo 10³ (BIPM SI Brochure Table 7)
+		expect(toCanonical(1, 'bar')).toBe(100000);
+		expect(toCanonical(3.45, 'bar')).toBe(345000);
+		expect(toCanonical(80, 'kPa')).toBe(80000);
+		expect(convertUnit(1013.25, 'mbar', 'bar')).toBeCloseTo(1.01325, 12);
+		// NIST SP 811 B.8: standard atmosphere = 1.013 25 E+05 Pa = 760 Torr exactly
+		expect(convertUnit(760, 'Torr', 'kPa')).toBe(101.325);
 	});
 
 	it('reproduces the check values of lyophilization.md', () => {
@@ -84,6 +91,8 @@ describe('mass, volume, time', () => {
 		expect(toCanonical(250, 'mg')).toBe(0.25);
 		expect(toCanonical(2, 'L')).toBe(2000);
 		expect(toCanonical(500, 'uL')).toBe(0.5);
+		expect(toCanonical(250, 'ug')).toBe(0.00025);
+		expect(convertUnit(20, 'mg', 'ug')).toBe(20000);
 		// NIST SP 811 B.8: minute (min) → second 6.0 E+01; hour (h) → second 3.6 E+03
 		expect(toCanonical(1, 'min')).toBe(60);
 		expect(toCanonical(1, 'h')).toBe(3600);
@@ -101,7 +110,7 @@ describe('unit catalogue', () => {
 		}
 		// design.md, Units: shown in °C/°F/K and Pa, mbar, µbar, mTorr, Torr
 		expect(listUnits('temperature').map(labelUnit)).toEqual(['°C', '°F', 'K']);
-		expect(listUnits('pressure').map(labelUnit)).toEqual(['Pa', 'mbar', 'µbar', 'mTorr', 'Torr']);
+		expect(listUnits('pressure').map(labelUnit)).toEqual(['Pa', 'kPa', 'mbar', 'bar', 'µbar', 'mTorr', 'Torr']);
 		expect(labelUnit('uL')).toBe('µL');
 	});
 
@@ -112,6 +121,8 @@ describe('unit catalogue', () => {
 		expect(parseUnit(' µbar ')).toBe('ubar');
 		expect(parseUnit('μbar')).toBe('ubar'); // Greek mu, U+03BC
 		expect(parseUnit('MTORR')).toBe('mTorr');
+		expect(parseUnit('kPa')).toBe('kPa');
+		expect(parseUnit('µg')).toBe('ug');
 		expect(parseUnit('psi')).toBeNull();
 		expect(parseUnit('constructor')).toBeNull();
 	});

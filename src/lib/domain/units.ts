@@ -18,8 +18,8 @@ export const QUANTITIES = ['temperature', 'pressure', 'mass', 'volume', 'time'] 
 export type Quantity = (typeof QUANTITIES)[number];
 
 export const TEMPERATURE_UNITS = ['degC', 'degF', 'K'] as const;
-export const PRESSURE_UNITS = ['Pa', 'mbar', 'ubar', 'mTorr', 'Torr'] as const;
-export const MASS_UNITS = ['g', 'mg', 'kg'] as const;
+export const PRESSURE_UNITS = ['Pa', 'kPa', 'mbar', 'bar', 'ubar', 'mTorr', 'Torr'] as const;
+export const MASS_UNITS = ['g', 'mg', 'ug', 'kg'] as const;
 export const VOLUME_UNITS = ['mL', 'L', 'uL'] as const;
 export const TIME_UNITS = ['s', 'min', 'h'] as const;
 
@@ -68,13 +68,17 @@ const DEFINITIONS: Record<Unit, UnitDefinition> = {
 	// t/°C = T/K − 273.15, NIST SP 811 §4.2.1.1
 	K: { quantity: 'temperature', label: 'K', num: 1, den: 1, offset: 273.15 },
 	Pa: { quantity: 'pressure', label: 'Pa', num: 1, den: 1, offset: 0 },
+	// kPa = 10³ Pa, bar = 10⁵ Pa exactly (NIST SP 811 table 8: the bar is accepted for use with the SI)
+	kPa: { quantity: 'pressure', label: 'kPa', num: 1000, den: 1, offset: 0 },
 	mbar: { quantity: 'pressure', label: 'mbar', num: 100, den: 1, offset: 0 },
+	bar: { quantity: 'pressure', label: 'bar', num: 100000, den: 1, offset: 0 },
 	ubar: { quantity: 'pressure', label: 'µbar', num: 1, den: 10, offset: 0 },
 	// Torr = 101 325/760 Pa exactly
 	Torr: { quantity: 'pressure', label: 'Torr', num: 101325, den: 760, offset: 0 },
 	mTorr: { quantity: 'pressure', label: 'mTorr', num: 101325, den: 760000, offset: 0 },
 	g: { quantity: 'mass', label: 'g', num: 1, den: 1, offset: 0 },
 	mg: { quantity: 'mass', label: 'mg', num: 1, den: 1000, offset: 0 },
+	ug: { quantity: 'mass', label: 'µg', num: 1, den: 1000000, offset: 0 },
 	kg: { quantity: 'mass', label: 'kg', num: 1000, den: 1, offset: 0 },
 	mL: { quantity: 'volume', label: 'mL', num: 1, den: 1, offset: 0 },
 	L: { quantity: 'volume', label: 'L', num: 1000, den: 1, offset: 0 },
@@ -100,7 +104,7 @@ export function canonicalUnitOf(quantity: Quantity): CanonicalUnit {
 	return CANONICAL_UNITS[quantity];
 }
 
-/** Display label (°C, °F, K, Pa, mbar, µbar, mTorr, Torr, g, mg, kg, mL, L, µL, s, min, h). */
+/** Display label (°C, °F, K, Pa, kPa, mbar, bar, µbar, mTorr, Torr, g, mg, µg, kg, mL, L, µL, s, min, h). */
 export function labelUnit(unit: Unit): string {
 	return DEFINITIONS[unit].label;
 }
@@ -153,7 +157,9 @@ const ALIASES: Record<string, Unit> = {
 	degf: 'degF',
 	k: 'K',
 	pa: 'Pa',
+	kpa: 'kPa',
 	mbar: 'mbar',
+	bar: 'bar',
 	ubar: 'ubar',
 	'µbar': 'ubar',
 	'μbar': 'ubar',
@@ -162,6 +168,9 @@ const ALIASES: Record<string, Unit> = {
 	torr: 'Torr',
 	g: 'g',
 	mg: 'mg',
+	ug: 'ug',
+	'µg': 'ug',
+	'μg': 'ug',
 	kg: 'kg',
 	ml: 'mL',
 	l: 'L',
@@ -196,12 +205,15 @@ export const DEFAULT_DISPLAY_ROUNDING: Record<Unit, DisplayRounding> = {
 	degF: { decimals: 1 },
 	K: { decimals: 2 },
 	Pa: { significant: 3 },
+	kPa: { significant: 3 },
 	mbar: { significant: 3 },
+	bar: { significant: 3 },
 	ubar: { significant: 3 },
 	mTorr: { significant: 3 },
 	Torr: { significant: 3 },
 	g: { significant: 4 },
 	mg: { significant: 4 },
+	ug: { significant: 4 },
 	kg: { significant: 4 },
 	mL: { significant: 4 },
 	L: { significant: 4 },
