@@ -3,7 +3,7 @@
 // end-to-end in Debian's Chromium against the built app. Missing tools are installed through apt
 // when running as root; otherwise the run fails saying how to install them. Nothing is skipped.
 import { spawnSync, execFileSync } from 'node:child_process';
-import { existsSync, mkdtempSync, readFileSync, readdirSync, rmSync, mkdirSync } from 'node:fs';
+import { existsSync, mkdtempSync, readFileSync, readdirSync, rmSync, mkdirSync, writeFileSync } from 'node:fs';
 import { createServer } from 'node:net';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -96,13 +96,27 @@ function countPlaywright(file) {
 	}
 }
 
-// 1. Tools: Debian's Chromium for e2e, a PostgreSQL server for integration.
+// 1. Tools: Debian's Chromium for e2e, poppler and DejaVu for the PDF checks, a PostgreSQL server for integration.
 if (!existsSync(chromium)) aptInstall(['chromium'], `Chromium is needed for the end-to-end tests and ${chromium} is missing.`);
+// The PDF tests read the printed record back with poppler (pdftotext, pdfsig, pdfdetach, pdftoppm);
+// the PDF falls back to DejaVu Sans for the few signs Noto Sans lacks (≤ ≥ →).
+if (!['pdftotext', 'pdfsig', 'pdfdetach', 'pdftoppm'].every((t) => existsSync(`/usr/bin/${t}`))) aptInstall(['poppler-utils'], 'poppler-utils (pdftotext, pdfsig) is needed to check the printed batch record and is missing.');
+if (!existsSync('/usr/share/fonts/truetype/dejavu/DejaVuSans.ttf')) aptInstall(['fonts-dejavu-core'], 'The DejaVu Sans font (fonts-dejavu-core) is needed for signs Noto Sans lacks in the PDF and is missing.');
 let databaseUrl = process.env.DATABASE_URL_TEST;
 if (!databaseUrl) databaseUrl = await startThrowawayPostgres();
 const env = { ...process.env, DATABASE_URL_TEST: databaseUrl };
 delete env.DATABASE_URL; // the tests open their own databases
 mkdirSync(join(root, 'test-results'), { recursive: true });
+// Which code this run tested, for `npm run compliance:report` (it refuses a run of another commit
+// or of uncommitted changes as validation evidence).
+const git = (args) => {
+	try {
+		return execFileSync('git', args, { cwd: root, encoding: 'utf8', stdio: ['ignore', 'pipe', 'ignore'] }).trim();
+	} catch {
+		return null;
+	}
+};
+writeFileSync(join(root, 'test-results', 'run.json'), JSON.stringify({ commit: git(['rev-parse', 'HEAD']), dirty: (git(['status', '--porcelain']) ?? '') !== '', startedAt: new Date().toISOString() }));
 
 // 2. Unit and integration tests (Vitest), on PGlite and on the PostgreSQL server.
 const vitestStatus = run('npx', ['vitest', 'run', '--reporter=default', '--reporter=json', '--outputFile.json=test-results/vitest.json'], { env });

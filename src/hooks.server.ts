@@ -6,8 +6,12 @@ import { database } from '$lib/server/db';
 import { prepareDatabase } from '$lib/server/startup';
 import { ensureCheckpointSchedule } from '$lib/server/audit/schedule';
 import { ensureSigningKey } from '$lib/server/audit/checkpoint';
+import { ensureMailSender, stopMailSender } from '$lib/server/mail';
+import { startBackupSchedule } from '$lib/server/backup/schedule';
+import { blobStore } from '$lib/server/blobs';
 import { authenticate } from '$lib/server/auth/handle';
 import { checkOrigin } from '$lib/server/auth/origin';
+import { refuseMalformedInput } from '$lib/server/http/input';
 import { isLocale, negotiateLocale } from '$lib/i18n';
 
 export const init: ServerInit = async () => {
@@ -29,12 +33,16 @@ export const init: ServerInit = async () => {
 		console.log(`[rimebook] database ready (${where})${seeded ? '; demo scenario seeded' : ''}`);
 		// Signed ledger checkpoints at intervals (design.md, "The audit ledger"), off the request path.
 		ensureCheckpointSchedule(database.db);
+		// E-mail notifications from the outbox, off the request path too (never blocks a GMP action).
+		void ensureMailSender(database.db, config);
+		// Scheduled backups to RIMEBOOK_BACKUP_DIR (Annex 11 §7.2), when the site set a folder.
+		if (startBackupSchedule(database, { store: blobStore(), migrationsFolder: config.RIMEBOOK_MIGRATIONS_DIR })) console.log('[rimebook] scheduled backups on');
 	} catch (err) {
 		console.error(err instanceof Error ? err.message : err);
 		process.exit(1);
 	}
 	// adapter-node emits this on SIGTERM/SIGINT; an open PGlite would keep the process alive.
-	process.once('sveltekit:shutdown' as never, () => void database.close());
+	process.once('sveltekit:shutdown' as never, () => void stopMailSender().finally(() => database.close()));
 };
 
 const requestId: Handle = ({ event, resolve }) => {
@@ -63,7 +71,7 @@ const securityHeaders: Handle = async ({ event, resolve }) => {
 	return response;
 };
 
-export const handle = sequence(requestId, checkOrigin, authenticate, locale, securityHeaders);
+export const handle = sequence(requestId, checkOrigin, authenticate, locale, securityHeaders, refuseMalformedInput);
 
 export const handleError: HandleServerError = ({ error, event, status, message }) => {
 	if (status !== 404) console.error(`[${event.locals.requestId}] ${event.request.method} ${event.url.pathname}:`, error);

@@ -13,6 +13,8 @@ export const signatureMeanings = {
 	verified: { gmp: true, label: 'Verified' },
 	released: { gmp: true, label: 'Released' },
 	rejected: { gmp: true, label: 'Rejected' },
+	/** QA withdraws a record with a reason (a deviation raised in error, a duplicate). */
+	cancelled: { gmp: true, label: 'Cancelled' },
 	/** The signer's own accountability statement (11.100(c), 11.10(j)): not a GMP record. */
 	acknowledged: { gmp: false, label: 'Acknowledged' }
 } as const;

@@ -6,7 +6,7 @@ import pg from 'pg';
 import * as schema from '$lib/server/db/schema';
 import { pgErrorCode, type Database } from '$lib/server/db/client';
 import { runUnitOfWork, UnauditedWorkError } from '$lib/server/work';
-import { hashEvent, LEDGER_LOCK_KEY, rowsOf, systemActor } from '$lib/server/audit/ledger';
+import { canonicalParts, hashEvent, LEDGER_LOCK_KEY, rowsOf, systemActor } from '$lib/server/audit/ledger';
 import { verifyChain } from '$lib/server/audit/verify';
 import { seedDemo } from '$lib/server/db/seed';
 import { createTestDatabase, databaseKinds, type TestDatabase } from '../support/databases';
@@ -45,7 +45,7 @@ describe.each(databaseKinds)('the ledger on %s', (kind) => {
 		expect((await verifyChain(t.handle.db)).ok).toBe(true);
 	});
 
-	it('appends under the ledger lock LEDGER_LOCK_KEY, the one checkpoints take (rimebook_append_event, migration 0010)', async () => {
+	it('appends under the ledger lock LEDGER_LOCK_KEY, the one checkpoints take (rimebook_append_audit_event, migration 0023)', async () => {
 		await runUnitOfWork(t.handle.db, testActor, async (uow) => {
 			const appended = await uow.audit({ action: 'setting.update', entityType: 'setting', entityId: 'audit.test.lock', after: { on: true } });
 			// PostgreSQL docs, "pg_locks": a bigint advisory key shows as classid = high 32 bits, objid = low 32 bits, objsubid = 1.
@@ -60,6 +60,14 @@ describe.each(databaseKinds)('the ledger on %s', (kind) => {
 			expect(JSON.parse(row.canonical)).toMatchObject({ seq: appended.seq, at: appended.at, actorName: testActor.name, after: { on: true } });
 		});
 		expect((await verifyChain(t.handle.db, { engine: 'app' })).ok).toBe(true);
+	});
+
+	it('keeps one chain when the previous release\'s rimebook_append_event (migration 0010) appends between new appends (rolling upgrade)', async () => {
+		const { head, tail } = canonicalParts({ actorId: testActor.id, actorName: testActor.name, action: 'setting.update', entityType: 'setting', entityId: 'audit.test.upgrade', batchId: null, before: null, after: { old: true }, reason: null });
+		const before = (await verifyChain(t.handle.db, { engine: 'app' })).count;
+		await t.handle.db.transaction(async (tx) => void (await tx.execute(sql`select appended_seq from rimebook_append_event(${head}, ${tail})`)));
+		await runUnitOfWork(t.handle.db, testActor, (uow) => uow.audit({ action: 'setting.update', entityType: 'setting', entityId: 'audit.test.upgrade', after: { old: false } }));
+		for (const engine of ['app', 'database'] as const) expect(await verifyChain(t.handle.db, { engine })).toMatchObject({ ok: true, count: before + 2 });
 	});
 
 	it('rolls back a unit of work that changes data without an audit event (runUnitOfWork, design.md "One write path")', async () => {
@@ -139,7 +147,11 @@ const auditedThroughUnitOfWork = [
 	// The chart overview is derived from the series and written in the run's own unit of work.
 	'cycle_overview',
 	// Attachments: the blob row is written in the same unit of work as its attachment event.
-	'attachment', 'blob'
+	'attachment', 'blob',
+	// QA's review marks and the disposition are written with their audit event (and signature).
+	'review_mark', 'batch_disposition',
+	// A person's choice of notifications is audited with before and after.
+	'notification_preference'
 ];
 const exempt: Record<string, string> = {
 	session: 'sign-in and sign-out are audited as events; the session row itself is transient state (Lucia)',
@@ -147,7 +159,8 @@ const exempt: Record<string, string> = {
 	webauthn_challenge: 'single-use, short-lived ceremony state with no GMP meaning',
 	audit_event: 'the ledger itself',
 	audit_checkpoint: "the ledger's signed tree heads (append-only, verified by verifyChain)",
-	audit_signing_key: "the ledger's signing key (append-only)"
+	audit_signing_key: "the ledger's signing key (append-only)",
+	mail_outbox: 'delivery state of notifications, written in the unit of work of the audited action that caused them; not a GMP record'
 };
 
 describe('audit completeness of the schema', () => {

@@ -144,15 +144,16 @@ describe.each(databaseKinds)('tampering on %s is detected at the exact seq', (ki
 		expect((await verifyChain(t.handle.db)).ok).toBe(true);
 	}, 600_000);
 
-	// PGlite's app engine reads binary COPY batches and, for big ledgers, hashes them in a worker
-	// thread while the next batch is read (copy-verify.ts). Forced on here with small batches, so
-	// the double-buffered path meets every kind of tampering too (on a server it reads rows).
+	// The app engine reads whole batches as string_agg columns and, for big ledgers, hashes them in
+	// a worker thread while the next batch is read (batch-verify.ts). Forced on here with small
+	// batches, so the double-buffered path meets every kind of tampering too; `fast: false` is the
+	// row-by-row read.
 	it('detects 180 more tamperings with the worker-thread pipeline and with plain row reads', async () => {
 		const rand = prng(20261202);
 		const misses: string[] = [];
 		for (let i = 0; i < 180; i++) {
 			const tamper = makeTamper(rand, i);
-			const options = i % 2 === 0 ? { engine: 'app' as const, batchSize: 8, worker: true } : { engine: 'app' as const, batchSize: 8, copy: false };
+			const options = i % 2 === 0 ? { engine: 'app' as const, batchSize: 8, worker: true } : { engine: 'app' as const, batchSize: 8, fast: false };
 			let report: ChainReport | undefined;
 			await t.handle.db
 				.transaction(async (tx) => {

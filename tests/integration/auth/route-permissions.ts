@@ -56,14 +56,27 @@ export const routePermissions: Record<string, Record<string, Requirement>> = {
 	'/(app)/batches/[id]/+page.server.ts': { load: 'batch.read' },
 	'/(app)/batches/[id]/steps/[stepKey]/+page.server.ts': { load: 'batch.read', 'actions.enter': 'batch.execute', 'actions.verify': 'batch.verify' },
 	'/(app)/preferences/+page.server.ts': { load: 'profile.manage', 'actions.default': 'profile.manage' },
+	// E-mail notifications (MAIL): each person's choices, and the development-only mailbox (404 in production).
+	'/(app)/preferences/notifications/+page.server.ts': { load: 'profile.manage', 'actions.default': 'profile.manage' },
+	'/(app)/dev/mail/+page.server.ts': { load: 'settings.manage' },
 	'/api/batches/+server.ts': { GET: 'batch.read', POST: 'batch.issue' },
 	'/api/batches/[id]/+server.ts': { GET: 'batch.read' },
+	// Printed records (PDF): the executed batch record and the audit-trail report.
+	'/api/batches/[id]/record.pdf/+server.ts': { GET: 'batch.read' },
+	'/api/audit/report.pdf/+server.ts': { GET: 'audit.export' },
 	'/api/batches/[id]/steps/[stepKey]/entries/+server.ts': { POST: 'batch.execute' },
 	'/api/batches/[id]/steps/[stepKey]/verify/+server.ts': { POST: 'batch.verify' },
 	'/api/batches/[id]/lookup/+server.ts': { GET: 'batch.execute' },
 	'/api/batches/[id]/attachments/+server.ts': { POST: 'batch.execute' },
 	'/api/batches/[id]/attachments/[attachmentId]/+server.ts': { GET: 'batch.read' },
+	// Review by exception and disposition (REV).
+	'/(app)/review/+page.server.ts': { load: 'review.perform' },
+	'/(app)/review/[id]/+page.server.ts': { load: 'review.perform', 'actions.mark': 'review.perform', 'actions.release': 'batch.release', 'actions.reject': 'batch.release' },
+	'/api/batches/[id]/review/+server.ts': { GET: 'review.perform', POST: 'review.perform' },
+	'/api/batches/[id]/disposition/+server.ts': { POST: 'batch.release' },
 	'/(app)/settings/execution/+page.server.ts': { load: 'settings.manage', 'actions.code': 'settings.manage', 'actions.late': 'settings.manage' },
+	// Backup and restore (administrators; issue 9, Annex 11 §7.2).
+	'/(app)/admin/backup/+page.server.ts': { load: 'settings.manage', 'actions.create': 'settings.manage', 'actions.verify': 'settings.manage' },
 	// Master batch records (owned by the masters work).
 	'/(app)/masters/+page.server.ts': { load: 'master.read', 'actions.import': 'master.author' },
 	'/(app)/masters/new/+page.server.ts': { load: 'master.author', 'actions.default': 'master.author' },
@@ -92,5 +105,13 @@ export const routePermissions: Record<string, Record<string, Requirement>> = {
 	'/api/equipment/[id]/runs/+server.ts': { GET: 'cycle.read', POST: 'cycle.upload' },
 	'/api/runs/[id]/+server.ts': { GET: 'cycle.read' },
 	'/api/runs/[id]/leak-tests/+server.ts': { GET: 'cycle.read', POST: 'cycle.upload' },
-	'/api/runs/[id]/series/+server.ts': { GET: 'cycle.read' }
+	'/api/runs/[id]/series/+server.ts': { GET: 'cycle.read' },
+	// Deviations (owned by the deviations work). Transitions pass deviation.raise at the route; the
+	// service then demands deviation.approve for close, send-back and cancel.
+	'/(app)/deviations/+page.server.ts': { load: 'deviation.read' },
+	'/(app)/deviations/new/+page.server.ts': { load: 'deviation.raise', 'actions.default': 'deviation.raise' },
+	'/(app)/deviations/[id]/+page.server.ts': { load: 'deviation.read', 'actions.edit': 'deviation.raise', 'actions.transition': 'deviation.raise' },
+	'/api/deviations/+server.ts': { GET: 'deviation.read', POST: 'deviation.raise' },
+	'/api/deviations/[id]/+server.ts': { GET: 'deviation.read', PATCH: 'deviation.raise' },
+	'/api/deviations/[id]/transitions/+server.ts': { POST: 'deviation.raise' }
 };

@@ -1,9 +1,9 @@
 import type { Messages } from '$lib/i18n';
 
 /** Areas whose catalogue has an `errors` table of refusal codes a signing action may answer with. */
-export type ErrorArea = 'auth' | 'batches' | 'masters';
+export type ErrorArea = 'auth' | 'batches' | 'masters' | 'deviations' | 'review';
 
-const DEFAULT_ORDER: readonly ErrorArea[] = ['auth', 'batches', 'masters'];
+const DEFAULT_ORDER: readonly ErrorArea[] = ['auth', 'batches', 'masters', 'deviations', 'review'];
 
 function lookup(m: Messages, area: ErrorArea, code: string): string | undefined {
 	const table = (m[area] as { errors?: unknown }).errors;
@@ -14,7 +14,7 @@ function lookup(m: Messages, area: ErrorArea, code: string): string | undefined 
 
 /**
  * The words for a refused signing (review finding 5): the code is looked up in the catalogue of
- * the area that asked first (when given), then in auth, batches and masters; a code none of them
+ * the area that asked first (when given), then in auth, batches, masters, deviations and review; a code none of them
  * knows shows the server's own message, and nothing at all the generic "unknown error".
  */
 export function signErrorMessage(m: Messages, code: string, serverMessage?: unknown, area?: ErrorArea): string {

@@ -79,6 +79,7 @@ export const auth: DeepPartial<(typeof en)['auth']> = {
 		verified: 'Bestätigt',
 		released: 'Freigegeben',
 		rejected: 'Zurückgewiesen',
+		cancelled: 'Storniert',
 		acknowledged: 'Zur Kenntnis genommen'
 	}
 };

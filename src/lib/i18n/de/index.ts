@@ -8,6 +8,11 @@ import { batches } from './batches';
 import { equipment } from './equipment';
 import { cycles } from './cycles';
 import { masters } from './masters';
+import { mail } from './mail';
+import { pdf } from './pdf';
+import { deviations } from './deviations';
+import { review } from './review';
+import { backup } from './backup';
 
 /** German: the shell is complete; areas not yet translated fall back to English. */
 export const de: DeepPartial<typeof en> = {
@@ -18,5 +23,10 @@ export const de: DeepPartial<typeof en> = {
 	batches,
 	equipment,
 	cycles,
-	masters
+	masters,
+	deviations,
+	review,
+	mail,
+	pdf,
+	backup
 };

@@ -20,7 +20,8 @@ export const shell: DeepPartial<(typeof en)['shell']> = {
 		audit: 'Audit-Trail',
 		equipment: 'Anlagen',
 		people: 'Personen',
-		settings: 'Einstellungen'
+		settings: 'Einstellungen',
+		backup: 'Sicherung'
 	},
 	roles: {
 		author: 'Autor',

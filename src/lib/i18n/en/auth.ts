@@ -114,6 +114,7 @@ export const auth = {
 		verified: 'Verified',
 		released: 'Released',
 		rejected: 'Rejected',
+		cancelled: 'Cancelled',
 		acknowledged: 'Acknowledged'
 	} as Record<string, string>,
 	manifestation: {

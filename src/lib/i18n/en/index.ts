@@ -7,6 +7,11 @@ import { equipment } from './equipment';
 import { cycles } from './cycles';
 import { batches } from './batches';
 import { masters } from './masters';
+import { mail } from './mail';
+import { pdf } from './pdf';
+import { deviations } from './deviations';
+import { review } from './review';
+import { backup } from './backup';
 
 /** The English catalogue: complete, and the shape every other locale follows. */
 export const en = {
@@ -18,5 +23,10 @@ export const en = {
 	equipment,
 	cycles,
 	batches,
-	masters
+	masters,
+	deviations,
+	review,
+	mail,
+	pdf,
+	backup
 };

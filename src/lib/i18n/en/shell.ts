@@ -17,7 +17,8 @@ export const shell = {
 		audit: 'Audit trail',
 		equipment: 'Equipment',
 		people: 'People',
-		settings: 'Settings'
+		settings: 'Settings',
+		backup: 'Backup'
 	},
 	roles: {
 		author: 'Author',

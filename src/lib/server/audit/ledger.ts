@@ -27,7 +27,7 @@ export const GENESIS_HASH = '0'.repeat(64);
 
 // Transaction-scoped advisory lock key that serialises appends, so the chain stays linear with
 // many connections (design.md, "The audit ledger"). An arbitrary constant of our own, also written
-// into rimebook_append_event (migration 0010); checkpoints take the same lock so a tree head always names a committed prefix.
+// into rimebook_append_audit_event (migrations 0010, 0023); checkpoints take the same lock so a tree head always names a committed prefix.
 export const LEDGER_LOCK_KEY = 7_305_118_021;
 
 /**
@@ -81,7 +81,7 @@ export type EventBody = Omit<HashedEvent, 'seq' | 'at'>;
 
 /**
  * The RFC 8785 text of an event in the two parts around its "at" member, which is how the
- * database function rimebook_append_event (migration 0010) receives it. RFC 8785 3.2.3 sorts the
+ * database function rimebook_append_audit_event (migrations 0010, 0023) receives it. RFC 8785 3.2.3 sorts the
  * members by key (action, actorId, actorName, after | at | batchId, before, entityId, entityType,
  * reason | seq) and serialises each member on its own, so canonicalising the groups separately and
  * joining them gives exactly the canonicaliser's text of the whole event (a unit test checks this
@@ -102,7 +102,7 @@ export function canonicalParts(event: EventBody): { head: string; tail: string }
 	return { head: head.slice(0, -1), tail: tail.slice(1, -1) };
 }
 
-/** The same splice as rimebook_append_event: head ‖ ,"at":"…", ‖ tail ‖ ,"seq":N}. */
+/** The same splice as rimebook_append_audit_event: head ‖ ,"at":"…", ‖ tail ‖ ,"seq":N}. */
 export function spliceCanonical(head: string, tail: string, at: string, seq: number): string {
 	if (!/^[0-9]{4}-[0-9]{2}-[0-9]{2}T[0-9]{2}:[0-9]{2}:[0-9]{2}\.[0-9]{6}Z$/.test(at) || !Number.isSafeInteger(seq) || seq < 1) {
 		throw new AuditPayloadError('An audit event needs a UTC time with microseconds and a positive seq.');
@@ -114,8 +114,8 @@ export function spliceCanonical(head: string, tail: string, at: string, seq: num
  * Appends one event inside the caller's transaction (21 CFR 11.10(e)): if the transaction rolls
  * back, so does the event. Returns the stored seq and hash.
  *
- * One statement: rimebook_append_event (migration 0010) takes the ledger lock, reads the head and
- * the database clock under it (so `at` never runs backwards along the chain even with several app
+ * One statement: rimebook_append_audit_event (migration 0023; 0010 is the same as a table
+ * function) takes the ledger lock, reads the head and the database clock under it (so `at` never runs backwards along the chain even with several app
  * nodes), splices seq and at into the canonical text, hashes and inserts. The hash it returns is
  * checked here against node:crypto over the same bytes, so a database that hashed wrongly is
  * caught at once instead of at the next verification.
@@ -132,11 +132,8 @@ export async function appendEvent(tx: Tx, actor: Actor, input: AuditInput): Prom
 		after: input.after ?? null,
 		reason: input.reason ?? null
 	});
-	const [[seqText, hash, at, prevHash]] = await queryRows<[number | string, string, string, string]>(
-		tx,
-		'select appended_seq, appended_hash, appended_at, appended_prev_hash from rimebook_append_event($1, $2)',
-		[head, tail]
-	);
+	const [[appended]] = await queryRows<[string[]]>(tx, 'select rimebook_append_audit_event($1, $2)', [head, tail]);
+	const [seqText, at, prevHash, hash] = appended;
 	const seq = Number(seqText);
 	if (hashEvent(prevHash, spliceCanonical(head, tail, at, seq)) !== hash) throw new Error(`The database hashed audit event ${seq} differently from node:crypto; the unit of work was rolled back.`);
 	return { seq, hash, at };

@@ -5,8 +5,8 @@ import { auditCheckpoint, auditSigningKey } from '../db/schema';
 import { ChainScanner, type ChainBreak, type ChainRow } from './chain';
 import { checkCheckpointSignature, sha256, type SignedCheckpoint } from './checkpoint';
 import { GENESIS_HASH } from './ledger';
-import { scanByCopy, type PgliteCopyClient } from './copy-verify';
-import { pgliteClientOf, queryRows } from './rows';
+import { scanByBatches } from './batch-verify';
+import { queryRows } from './rows';
 
 /**
  * verifyChain: recomputes the whole ledger (21 CFR 11.10(a) "detect altered records";
@@ -14,11 +14,11 @@ import { pgliteClientOf, queryRows } from './rows';
  *
  * Two engines give the same report:
  * - 'app' reads the text columns (seq, prev_hash, hash, canonical) in keyset-paged batches and
- *   recomputes every SHA-256 with node:crypto: trusts nothing but the bytes read. On PGlite the
- *   batches come as binary COPY output and are hashed straight from the buffer, in a worker thread
- *   for big ledgers (copy-verify.ts); the first batch that is not all good is read again as rows
- *   and classified by the shared rules, so the report is the same. On a PostgreSQL server
- *   (node-postgres) it reads rows.
+ *   recomputes every SHA-256 with node:crypto: trusts nothing but the bytes read. Each batch comes
+ *   as its columns concatenated by string_agg (a few long strings instead of one JS value per row)
+ *   and, for big ledgers, is hashed in a worker thread while the next batch is read
+ *   (batch-verify.ts); the first batch that is not all good is read again as rows and classified
+ *   by the shared rules, so the report is the same. Same path on PGlite and a PostgreSQL server.
  * - 'database' has PostgreSQL recompute each batch with pg_catalog.sha256 and lag() and returns
  *   only counts and the first suspect seq, which the app engine then classifies. Much faster on
  *   PGlite (no per-row transfer), but it trusts the database engine to hash honestly.
@@ -45,9 +45,9 @@ export interface VerifyOptions {
 	engine?: 'app' | 'database';
 	batchSize?: number;
 	roots?: boolean;
-	/** PGlite, app engine: read batches as binary COPY (default true); false reads rows as the PostgreSQL server path does. */
-	copy?: boolean;
-	/** PGlite, app engine: hash in a worker thread while the next batch is read ('auto': for two or more batches). */
+	/** App engine: read each batch as concatenated columns (default true); false reads one row at a time. */
+	fast?: boolean;
+	/** App engine, fast path: hash in a worker thread while the next batch is read ('auto': for big ledgers, batch-verify.ts). */
 	worker?: boolean | 'auto';
 	/** Called after each batch, for progress displays. */
 	onProgress?: (verified: number) => void;
@@ -57,7 +57,7 @@ const GENERATED_COLUMNS = ['at', 'actor_id', 'actor_name', 'action', 'entity_typ
 
 export async function verifyChain(db: Executor, options: VerifyOptions = {}): Promise<ChainReport> {
 	const engine = options.engine ?? 'database';
-	const batchSize = options.batchSize ?? 50_000;
+	const batchSize = options.batchSize ?? (engine === 'app' ? 20_000 : 50_000);
 	const scan = engine === 'app' ? await scanInApp(db, { ...options, batchSize }) : await scanInDatabase(db, batchSize, options.onProgress);
 	let firstBreak = scan.firstBreak;
 	const columnsGenerated = await areColumnsGenerated(db);
@@ -96,11 +96,10 @@ type Row = [number | string, string, string, string];
 const SELECT_ROWS = 'select seq, prev_hash, hash, canonical from audit_event where seq > $1 order by seq limit $2';
 
 async function scanInApp(db: Executor, options: VerifyOptions & { batchSize: number }): Promise<Scan> {
-	const pglite = options.copy === false ? null : pgliteClientOf<PgliteCopyClient>(db);
-	if (!pglite) return scanRows(db, options.batchSize, options.onProgress);
-	// PGlite: the same checks over binary COPY batches; the exact classification of a break is
-	// left to the row scan, from the start of the first batch that was not entirely good.
-	const fast = await scanByCopy(pglite, { seq: 0, hash: GENESIS_HASH }, { batchSize: options.batchSize, worker: options.worker ?? 'auto', onProgress: options.onProgress });
+	if (options.fast === false) return scanRows(db, options.batchSize, options.onProgress);
+	// The same checks over whole batches; the exact classification of a break is left to the row
+	// scan, from the start of the first batch that was not entirely good.
+	const fast = await scanByBatches(db, { seq: 0, hash: GENESIS_HASH }, { batchSize: options.batchSize, worker: options.worker ?? 'auto', onProgress: options.onProgress });
 	if (fast.complete) return { count: fast.count, lastHash: fast.head.hash, firstBreak: null };
 	const rest = await scanRows(db, options.batchSize, undefined, fast.head);
 	return { count: rest.count + fast.head.seq, lastHash: rest.lastHash, firstBreak: rest.firstBreak };

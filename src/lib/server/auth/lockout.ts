@@ -7,6 +7,7 @@ import { runUnitOfWork } from '../work';
 import { rowsOf, systemActor } from '../audit/ledger';
 import { AuthError } from './errors';
 import { auditedUsername } from './pseudonym';
+import { notifyAccountLocked } from '../mail/notices';
 
 /**
  * Attempted misuse (21 CFR 11.300(d); NIST SP 800-63B-4 §3.2.2 rate limiting; ASVS V6.3.1):
@@ -130,6 +131,8 @@ export async function recordFailure(db: Database, target: AttemptTarget, policy 
 			after: { ...name, address: target.address, failures, lockMinutes: policy.lockMinutes },
 			reason: `${failures} failed attempts within ${policy.windowMinutes} minutes`
 		});
+		// 11.300(d): attempts at unauthorized use are reported to the system security unit (admins); only for real accounts (a typed unknown name may be a password).
+		if (target.account) await notifyAccountLocked(uow, { userId: target.account.id, username: target.username, failures, lockMinutes: policy.lockMinutes });
 		return { locked: true };
 	});
 }

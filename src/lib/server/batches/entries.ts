@@ -19,6 +19,7 @@ import { getExecutionSettings } from './settings';
 import { stepEntrySignatureContent } from './signed-content';
 import { bumpBatchVersion } from './state';
 import { isBatchOpen } from '$lib/domain/batch/status';
+import { notifyReadyForReview, notifyVerificationRequested } from '../mail/notices';
 
 export interface StepEntryRequest {
 	user: SessionUser;
@@ -190,6 +191,7 @@ export async function recordStepEntry(db: Database, req: StepEntryRequest): Prom
 		const after = { ...records, entries: [...records.entries, { ...row, recordedAt: sig.at } as BatchRecords['entries'][number]] };
 		const status = progressOf(after).complete ? 'awaiting-review' : 'in-progress';
 		const version = await bumpBatch(uow, records, status);
+		if (p.step.critical) await notifyVerificationRequested(uow, { batchId: b.id, batchNumber: b.number, step: `${p.sp.label} ${p.step.title}`, performerId: req.user.id, performerName: req.user.name });
 		return { entryId, version, correction: p.correction, outOfLimits: p.judgement.outOfLimits, late: p.late, deviations, status };
 	});
 }
@@ -200,6 +202,7 @@ export async function bumpBatch(uow: UnitOfWork, records: BatchRecords, status: 
 	const version = await bumpBatchVersion(uow.tx, b.id, status);
 	if (status !== b.status) {
 		await uow.audit({ action: 'batch.status', entityType: 'batch', entityId: b.id, batchId: b.id, before: { status: b.status }, after: { status } });
+		if (status === 'awaiting-review') await notifyReadyForReview(uow, { batchId: b.id, batchNumber: b.number });
 	}
 	return version;
 }

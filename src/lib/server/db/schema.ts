@@ -11,3 +11,5 @@ export * from './tables/entries';
 export * from './tables/deviations';
 export * from './tables/blobs';
 export * from './tables/signature';
+export * from './tables/mail';
+export * from './tables/review';

@@ -2,6 +2,8 @@ import { randomUUID } from 'node:crypto';
 import { eq, sql } from 'drizzle-orm';
 import { cycleRun, deviation } from '../db/schema';
 import type { UnitOfWork } from '../work';
+import type { DeviationClassification } from '$lib/domain/deviation-lifecycle';
+import { notifyDeviation } from './notify';
 
 /**
  * Raising a deviation (21 CFR 211.100(b): deviations are recorded and justified; 211.192). The
@@ -20,6 +22,10 @@ export interface RaiseDeviationInput {
 	kind: string;
 	title: string;
 	description: string;
+	/** Optional at raising (manual raises may know it); required before submission. */
+	classification?: DeviationClassification | null;
+	/** What was done at once to contain the event (common GMP practice: recorded when raised). */
+	immediateAction?: string | null;
 }
 
 export interface RaisedDeviation {
@@ -51,12 +57,21 @@ export async function raiseDeviation(uow: UnitOfWork, input: RaiseDeviationInput
 		title: input.title,
 		description: input.description,
 		status: 'open' as const,
+		classification: input.classification ?? null,
+		immediateAction: blankToNull(input.immediateAction),
 		createdBy: uow.actor.id,
 		createdByName: uow.actor.name
 	};
 	await uow.tx.insert(deviation).values(values);
 	await uow.audit({ action: 'deviation.raise', entityType: 'deviation', entityId: id, batchId: input.batchId, after: values });
+	// QA learns of every deviation, automatic or manual (issue 8); queued in this transaction.
+	await notifyDeviation(uow, 'deviation-raised', { id, number, title: input.title, batchId: input.batchId });
 	return { id, number };
+}
+
+export function blankToNull(v: string | null | undefined): string | null {
+	const t = v?.trim();
+	return t ? t : null;
 }
 
 /**

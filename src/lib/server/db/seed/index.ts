@@ -9,6 +9,7 @@ import { demoEquipment, demoLots, demoMaterials, demoPeople, demoSite } from './
 import { seedMasters } from './masters';
 import { seedBatches } from './batches';
 import { seedCycles } from './cycles';
+import { seedReview } from './review';
 
 /** True when no user exists yet: the server seeds the demo only then. */
 export async function isDatabaseEmpty(db: Database): Promise<boolean> {
@@ -46,7 +47,7 @@ export interface SeedContext {
 }
 
 type AreaSeeder = (uow: UnitOfWork, context: SeedContext) => Promise<void>;
-const areaSeeders: AreaSeeder[] = [seedMasters, seedBatches, seedCycles];
+const areaSeeders: AreaSeeder[] = [seedMasters, seedBatches, seedCycles, seedReview];
 
 async function seedSettings(uow: UnitOfWork) {
 	const value = { company: demoSite.company, site: demoSite.site, name: demoSite.name, demo: true };
