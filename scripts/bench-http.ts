@@ -68,8 +68,9 @@ async function main() {
 			return cookie;
 		}
 		const cookies = await Promise.all(Array.from({ length: CLIENTS }, (_, i) => signIn(i % 2 === 0 ? 'operator' : 'operator2')));
-		const batches = (await (await fetch(`${base}/api/batches`, { headers: { cookie: cookies[0] } })).json()) as { id: string; version: number }[];
-		const batchId = batches[0].id;
+		const batches = (await (await fetch(`${base}/api/batches`, { headers: { cookie: cookies[0] } })).json()) as { id: string; version: number; status: string }[];
+		// The demo batch being executed (the other seeded batch is complete and awaits review).
+		const batchId = batches.find((b) => b.status === 'in-progress')!.id;
 		const read = async (cookie: string) => (await (await fetch(`${base}/api/batches/${batchId}`, { headers: { cookie } })).json()) as { version: number; sections: { steps: { key: string; history: { id: string; supersedes: string | null }[] }[] }[] };
 		const before = await read(cookies[0]);
 		const historyBefore = before.sections.flatMap((s) => s.steps).find((s) => s.key === STEP)!.history.length;

@@ -56,7 +56,8 @@ async function mixedLoad(kind: 'pglite' | 'postgresql') {
 		const qa = await signIn(base, 'qa');
 		const masters = (await (await fetch(`${base}/api/masters`, { headers: { cookie: qa } })).json()) as { id: string; status: string }[];
 		const master = masters.find((m) => m.status === 'effective');
-		const batches = (await (await fetch(`${base}/api/batches`, { headers: { cookie: qa } })).json()) as { id: string }[];
+		// The demo batch being executed (the other seeded batch awaits review).
+		const batches = ((await (await fetch(`${base}/api/batches`, { headers: { cookie: qa } })).json()) as { id: string; status: string }[]).filter((b) => b.status === 'in-progress');
 		let batchId: string | undefined;
 		for (const b of batches) {
 			const view = (await (await fetch(`${base}/api/batches/${b.id}`, { headers: { cookie: qa } })).json()) as { sections: { steps: { key: string; history: unknown[] }[] }[] };

@@ -134,7 +134,8 @@ export async function runCrashRounds(o: CrashOptions): Promise<CrashSummary> {
 }
 
 async function seededBatch(base: string, cookie: string): Promise<{ id: string } | undefined> {
-	const batches = (await (await fetch(`${base}/api/batches`, { headers: { cookie } })).json()) as { id: string }[];
+	// The demo batch being executed (the other seeded batch awaits review).
+	const batches = ((await (await fetch(`${base}/api/batches`, { headers: { cookie } })).json()) as { id: string; status: string }[]).filter((b) => b.status === 'in-progress');
 	for (const b of batches) {
 		const view = (await (await fetch(`${base}/api/batches/${b.id}`, { headers: { cookie } })).json()) as { sections: { steps: { key: string; history: unknown[] }[] }[] };
 		if (view.sections.flatMap((x) => x.steps).some((s) => s.key === STEP && s.history.length > 0)) return b;

@@ -28,7 +28,8 @@ test('operator records an out-of-limit value, supervisor verifies, the correctio
 	await op.goto('/batches');
 	await expect(op.locator('main a[href^="/batches/"]').first()).toBeVisible();
 	const list = await (await op.request.get('/api/batches')).json();
-	const batchId: string = list[0].id;
+	// The demo batch being executed (the other seeded batch is complete and awaits review).
+	const batchId: string = (list as { id: string; status: string }[]).find((b) => b.status === 'in-progress')!.id;
 	// The seed performed the weighing steps; do the two before "Add the drug substance" through the API (same service).
 	const state = await (await op.request.get(`/api/batches/${batchId}`)).json();
 	const sig = { username: 'operator', password: PASSWORD };

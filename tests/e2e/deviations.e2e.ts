@@ -33,7 +33,8 @@ test('an operator raises a deviation by hand; a supervisor investigates and subm
 	const op = await (await browser.newContext(tablet)).newPage();
 	await signIn(op, 'operator');
 	const batches = await (await op.request.get('/api/batches')).json();
-	const batchId: string = batches[0].id;
+	// The demo batch being executed (the other seeded batch is complete and awaits review).
+	const batchId: string = (batches as { id: string; status: string }[]).find((b) => b.status === 'in-progress')!.id;
 	await op.goto(`/batches/${batchId}`);
 	await op.getByTestId('raise-deviation').click();
 	await expect(op).toHaveURL(/\/deviations\/new\?batch=/);

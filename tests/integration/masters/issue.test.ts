@@ -29,12 +29,16 @@ describe.each(databaseKinds)('issuing batch records on %s', (kind) => {
 	});
 	afterAll(async () => t?.dispose());
 
+	// The demo numbers its batches {product}-{yyyy}-{seq:4} in the year of issue (the seed issues
+	// TAV-…-0001 for the lyophilised product and TAV-…-0002 for the bulk solution awaiting review).
+	const year = new Date().getUTCFullYear();
+	const numbered = (n: number) => `TAV-${year}-${String(n).padStart(4, '0')}`;
 	const batches = async () => (await db.select({ n: count() }).from(batch))[0].n;
 	const issue = async (p: Person, masterRecordId: string, batchSize: number, batchNumber?: string) =>
 		issueBatch(db, { user: p.user, session: p.session, masterRecordId, batchSize, batchNumber, credentials: await p.credentials() });
 
-	test('the seeded batch: TAV-2026-0001 at 12 L, a frozen copy of the effective master, signed "issued" by QA', async () => {
-		const [b] = await db.select().from(batch).where(eq(batch.number, 'TAV-2026-0001'));
+	test('the seeded batch: TAV-<year>-0001 at 12 L, a frozen copy of the effective master, signed "issued" by QA', async () => {
+		const [b] = await db.select().from(batch).where(eq(batch.number, numbered(1)));
 		const master = (await findMaster(db, effectiveId))!;
 		// (Its status is the execution seed's business: the demo goes on to execute it.)
 		expect([b.masterRecordId, b.batchSize, b.batchSizeUnit, b.issuedBy]).toEqual([effectiveId, 12, 'L', qa.user.id]);
@@ -48,7 +52,7 @@ describe.each(databaseKinds)('issuing batch records on %s', (kind) => {
 	test('QA issues the effective version with the next number; quantities scaled by the formulas', async () => {
 		const head = await auditHead(db);
 		const { batchId, number } = await issue(qa, effectiveId, 10);
-		expect(number).toBe('TAV-2026-0002');
+		expect(number).toBe(numbered(3));
 		const [b] = await db.select().from(batch).where(eq(batch.id, batchId));
 		const scaled = b.scaled as ScaledTemplate;
 		// Hand calculation from the demo formulas: 10 L × 50 mg/mL = 500 g sucrose; 10 L × 0.78 mg/mL = 7.80 g
@@ -74,7 +78,7 @@ describe.each(databaseKinds)('issuing batch records on %s', (kind) => {
 		const n = await batches();
 		const head = await auditHead(db);
 		expect(await outcomeOf(issue(qa, supersededId, 12))).toBe('409 wrong-state');
-		expect(await outcomeOf(issue(qa, effectiveId, 12, 'TAV-2026-0001'))).toBe('409 duplicate-number');
+		expect(await outcomeOf(issue(qa, effectiveId, 12, numbered(1)))).toBe('409 duplicate-number');
 		expect(await outcomeOf(issue(qa, effectiveId, 20))).toBe('400 invalid');
 		expect(await outcomeOf(issue(qa, effectiveId, 12, 'no spaces please'))).toBe('400 invalid');
 		expect(await outcomeOf(issue(qa, 'no-such-master', 12))).toBe('404 not-found');
@@ -89,7 +93,7 @@ describe.each(databaseKinds)('issuing batch records on %s', (kind) => {
 	test('two batches issued at once get different numbers', async () => {
 		const [a, b] = await Promise.all([issue(qa, effectiveId, 12), issue(qa, effectiveId, 12)]);
 		expect(a.number).not.toBe(b.number);
-		expect([a.number, b.number].sort()).toEqual(['TAV-2026-0003', 'TAV-2026-0004']);
+		expect([a.number, b.number].sort()).toEqual([numbered(4), numbered(5)]);
 	});
 
 	test('the issued snapshot stays as it was after the master moves on; the superseded version is never issued again', async () => {

@@ -271,7 +271,8 @@ export interface BatchSummary {
 
 /** Every batch, newest first, with its progress (GET /api/batches, the batch list). */
 export async function listBatches(db: Executor): Promise<BatchSummary[]> {
-	const rows = await db.select().from(batch).orderBy(desc(batch.issuedAt));
+	// Newest first; batches issued in one transaction share issued_at, so the number breaks the tie.
+	const rows = await db.select().from(batch).orderBy(desc(batch.issuedAt), desc(batch.number));
 	if (rows.length === 0) return [];
 	const ids = rows.map((r) => r.id);
 	// One query at a time: on a PostgreSQL transaction they share one connection.
