@@ -19,6 +19,7 @@ import { getExecutionSettings } from './settings';
 import { stepEntrySignatureContent } from './signed-content';
 import { bumpBatchVersion } from './state';
 import { isBatchOpen } from '$lib/domain/batch/status';
+import { isUnit, labelUnit } from '$lib/domain/units';
 import { notifyReadyForReview, notifyVerificationRequested } from '../mail/notices';
 
 export interface StepEntryRequest {
@@ -109,14 +110,19 @@ async function prepareEntry(db: Database | UnitOfWork['tx'], records: BatchRecor
 	return { step, sp, current, correction, values, judgement, comment, workedAt, late, progress };
 }
 
+/** A unit as people write it (°C, µL), not as formulas spell it (degC, uL). */
+function unitText(unit: string | undefined): string {
+	return unit && isUnit(unit) ? labelUnit(unit) : (unit ?? '');
+}
+
 function describeOutOfLimits(step: { fields: { key: string; label: string; unit?: string }[] }, judgement: StepJudgement, values: Map<string, StoredValue>): string {
 	return judgement.outOfLimits
 		.map((k) => {
 			const f = step.fields.find((x) => x.key === k);
 			const j = judgement.fields[k];
 			const v = values.get(k);
-			const shown = v?.kind === 'number' ? `${v.text} ${v.unit}` : j.reported !== undefined ? `${j.reported} ${j.unit ?? ''}` : v && 'value' in v ? JSON.stringify(v.value) : '';
-			const b = j.bounds ? ` (limits ${j.bounds.min ?? '–'} … ${j.bounds.max ?? '–'} ${f?.unit ?? ''})` : '';
+			const shown = v?.kind === 'number' ? `${v.text} ${unitText(v.unit)}` : j.reported !== undefined ? `${j.reported} ${unitText(j.unit)}` : v && 'value' in v ? JSON.stringify(v.value) : '';
+			const b = j.bounds ? ` (limits ${j.bounds.min ?? '–'} … ${j.bounds.max ?? '–'} ${unitText(f?.unit)})` : '';
 			return `${f?.label ?? k}: ${shown.trim()} is ${j.verdict}${b}`;
 		})
 		.join('; ');
