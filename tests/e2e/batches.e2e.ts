@@ -1,24 +1,5 @@
-import { expect, test, type Page } from '@playwright/test';
-
-const PASSWORD = process.env.RIMEBOOK_DEMO_PASSWORD ?? 'frost-demo-2026';
-
-async function signIn(page: Page, username: string) {
-	await page.goto('/login');
-	await page.locator('input[name=username]').fill(username);
-	await page.locator('input[name=password]').fill(PASSWORD);
-	await page.locator('form button[type=submit]').first().click();
-	await expect(page).toHaveURL(/\/$/);
-}
-
-async function sign(page: Page, username: string) {
-	const dialog = page.locator('dialog[open]');
-	await expect(dialog).toBeVisible();
-	const user = dialog.locator('input[name=sign_username]');
-	if (await user.count()) await user.fill(username);
-	await dialog.locator('input[name=sign_password]').fill(PASSWORD);
-	await dialog.locator('button[type=submit]').click();
-	await expect(dialog).toBeHidden();
-}
+import { expect, test } from '@playwright/test';
+import { PASSWORD, sign, signIn } from './support';
 
 // Issue 6 "Done when": an operator executes a step with an out-of-limit value and a supervisor
 // verifies it, then a correction is made and shown struck through (EU GMP Ch. 4.9; 21 CFR 211.188(b)(11)).

@@ -1,26 +1,7 @@
 import { expect, test, type Page } from '@playwright/test';
+import { sign, signIn } from './support';
 
-const PASSWORD = process.env.RIMEBOOK_DEMO_PASSWORD ?? 'frost-demo-2026';
 const SHOTS = process.env.E2E_SCREENSHOTS;
-
-async function signIn(page: Page, username: string) {
-	await page.goto('/login');
-	await page.locator('input[name=username]').fill(username);
-	await page.locator('input[name=password]').fill(PASSWORD);
-	await page.locator('form button[type=submit]').first().click();
-	await expect(page).toHaveURL(/\/$/);
-}
-
-/** The signing ceremony's dialog (11.200(a)(1)): username the first time in a session, then the password. */
-async function sign(page: Page, username: string) {
-	const dialog = page.locator('dialog[open]');
-	await expect(dialog).toBeVisible();
-	const user = dialog.locator('input[name=sign_username]');
-	if (await user.count()) await user.fill(username);
-	await dialog.locator('input[name=sign_password]').fill(PASSWORD);
-	await dialog.locator('button[type=submit]').click();
-	await expect(dialog).toBeHidden();
-}
 
 async function shot(page: Page, name: string) {
 	if (SHOTS) await page.screenshot({ path: `${SHOTS}/${name}.png`, fullPage: true });

@@ -1,26 +1,5 @@
-import { expect, test, type Page } from '@playwright/test';
-
-const PASSWORD = process.env.RIMEBOOK_DEMO_PASSWORD ?? 'frost-demo-2026';
-
-async function signIn(page: Page, username: string) {
-	await page.goto('/login');
-	await page.locator('input[name=username]').fill(username);
-	await page.locator('input[name=password]').fill(PASSWORD);
-	await page.locator('form button[type=submit]').first().click();
-	await expect(page).toHaveURL(/\/$/);
-}
-
-/** Completes the open signing dialog: username only at the first signing of the session (11.200(a)(1)). */
-async function sign(page: Page, username: string, comment?: { name: string; text: string }) {
-	const dialog = page.locator('dialog[open]');
-	await expect(dialog).toBeVisible();
-	if (comment) await dialog.locator(`textarea[name=${comment.name}]`).fill(comment.text);
-	const user = dialog.locator('input[name=sign_username]');
-	if (await user.count()) await user.fill(username);
-	await dialog.locator('input[name=sign_password]').fill(PASSWORD);
-	await dialog.locator('button[type=submit]').click();
-	await expect(dialog).toBeHidden();
-}
+import { expect, test } from '@playwright/test';
+import { sign, signIn } from './support';
 
 // Issue 8 "Done when": QA reviews by exception, closes a deviation and releases the demo batch
 // (21 CFR 211.192, 211.22(a), 11.50; Annex 11, 15; FDA Data Integrity Q&A 2018, Q7).

@@ -30,5 +30,8 @@ describe('demo batch for review', () => {
 		expect(reviewItemsOf(r).map((i) => i.kind).sort()).toEqual(['audit-trail', 'deviation', 'out-of-limit']);
 		const devs = await db.select().from(deviation).where(eq(deviation.batchId, row.id));
 		expect(devs.map((d) => [d.kind, d.status])).toEqual([['out-of-limit', 'pending-qa-approval']]);
+		// Units as people write them (NIST SP 811 §6: °C), not as formulas spell them (degC).
+		expect(devs[0].description).toContain('25.8 °C is above');
+		expect(devs[0].description).not.toContain('degC');
 	});
 });

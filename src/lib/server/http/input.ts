@@ -48,6 +48,38 @@ export function isFormActionPost(event: Pick<RequestEvent, 'request' | 'url'>): 
 	return event.request.method === 'POST' && !event.url.pathname.startsWith('/api/') && event.url.pathname !== '/logout' && FORM_TYPES.includes(baseType(event.request));
 }
 
+/**
+ * The largest JSON body any route accepts (the master import, 2 MB; the rest far less). A bigger
+ * one is left unread here: the route's own capped reader refuses it with 413 without buffering
+ * it, and this guard must not buffer it either (ASVS V2.2: no unbounded input).
+ */
+const INSPECTED_JSON_MAX_BYTES = 4 * 1024 * 1024;
+
+/**
+ * A copy of a JSON body within INSPECTED_JSON_MAX_BYTES, or null when it is larger. Not
+ * readBodyCapped: a tee branch's cancel() settles only once the other branch (the route's) is
+ * cancelled too, so it must not be awaited here.
+ */
+async function readInspectableJson(request: Request): Promise<string | null> {
+	const declared = Number(request.headers.get('content-length') ?? NaN);
+	if (Number.isFinite(declared) && declared > INSPECTED_JSON_MAX_BYTES) return null;
+	const reader = request.clone().body?.getReader();
+	if (!reader) return '';
+	const decoder = new TextDecoder();
+	let text = '';
+	let size = 0;
+	for (;;) {
+		const { done, value } = await reader.read();
+		if (done) return text + decoder.decode();
+		size += value.byteLength;
+		if (size > INSPECTED_JSON_MAX_BYTES) {
+			void reader.cancel().catch(() => {});
+			return null;
+		}
+		text += decoder.decode(value, { stream: true });
+	}
+}
+
 /** The refusal a request earns before routing, or null. Reads a clone of the body; the route still gets the original. */
 export async function refusalOfInput(event: Pick<RequestEvent, 'request' | 'url' | 'params'>): Promise<InputRefusal | null> {
 	const { request, url } = event;
@@ -74,9 +106,11 @@ export async function refusalOfInput(event: Pick<RequestEvent, 'request' | 'url'
 	if (type === 'application/json' || type.endsWith('+json')) {
 		let parsed: unknown;
 		try {
-			parsed = JSON.parse(await request.clone().text());
+			const text = await readInspectableJson(request);
+			if (text === null) return null; // larger than any route takes: the route's reader answers 413
+			parsed = JSON.parse(text);
 		} catch {
-			return null; // not JSON: the route's own reader refuses it
+			return null; // not JSON, or larger than any route takes: the route's own reader refuses it
 		}
 		const problem = jsonProblem(parsed);
 		if (problem) return { status: 400, message: problem };
