@@ -8,8 +8,10 @@ const config = {
 	kit: {
 		adapter: adapter({ out: 'build' }),
 		// Cross-site form POSTs are refused by our own handle (src/lib/server/auth/origin.ts), which
-		// makes the one exception SvelteKit's check cannot: API calls with a Bearer token.
-		csrf: { checkOrigin: false },
+		// makes the one exception SvelteKit's check cannot: API calls with a Bearer token. So
+		// SvelteKit's own check is off: `trustedOrigins: ['*']` is how SvelteKit 2.36+ spells that
+		// (`checkOrigin: false` is deprecated).
+		csrf: { trustedOrigins: ['*'] },
 		// A Content-Security-Policy without unsafe-inline scripts: SvelteKit hashes its own
 		// inline bootstrap script.
 		csp: {

@@ -8,6 +8,7 @@ import { ensureCheckpointSchedule } from '$lib/server/audit/schedule';
 import { ensureSigningKey } from '$lib/server/audit/checkpoint';
 import { ensureMailSender, stopMailSender } from '$lib/server/mail';
 import { startBackupSchedule } from '$lib/server/backup/schedule';
+import { startUpkeepSchedule, stopUpkeepSchedule } from '$lib/server/db/upkeep';
 import { blobStore } from '$lib/server/blobs';
 import { authenticate } from '$lib/server/auth/handle';
 import { checkOrigin } from '$lib/server/auth/origin';
@@ -37,12 +38,17 @@ export const init: ServerInit = async () => {
 		void ensureMailSender(database.db, config);
 		// Scheduled backups to RIMEBOOK_BACKUP_DIR (Annex 11 §7.2), when the site set a folder.
 		if (startBackupSchedule(database, { store: blobStore(), migrationsFolder: config.RIMEBOOK_MIGRATIONS_DIR })) console.log('[rimebook] scheduled backups on');
+		// PGlite runs no autovacuum: keep its planner statistics and hint bits current (db/upkeep.ts).
+		startUpkeepSchedule(database);
 	} catch (err) {
 		console.error(err instanceof Error ? err.message : err);
 		process.exit(1);
 	}
 	// adapter-node emits this on SIGTERM/SIGINT; an open PGlite would keep the process alive.
-	process.once('sveltekit:shutdown' as never, () => void stopMailSender().finally(() => database.close()));
+	process.once('sveltekit:shutdown' as never, () => {
+		stopUpkeepSchedule(database);
+		void stopMailSender().finally(() => database.close());
+	});
 };
 
 const requestId: Handle = ({ event, resolve }) => {

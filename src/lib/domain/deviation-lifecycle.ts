@@ -61,6 +61,38 @@ export interface DeviationFacts {
 	impact: string | null;
 	/** Who submitted the investigation now pending approval (null before a submission). */
 	submittedBy: string | null;
+	/**
+	 * Everyone who wrote or submitted the investigation, over every round (listInvestigators):
+	 * after a send-back and a new submission by someone else, the first investigator is still not
+	 * independent of the findings. Omitted, only `submittedBy` counts.
+	 */
+	investigators?: readonly string[];
+}
+
+/** One audit event of a deviation, as listInvestigators reads it. */
+export interface DeviationEventFacts {
+	actorId: string | null;
+	action: string;
+	after: unknown;
+}
+
+/** The fields that hold the investigation's findings (an edit of any of them is investigative work). */
+const findingFields: readonly string[] = requiredForSubmission;
+
+/**
+ * The people who took part in the investigation, from the deviation's own audit events: each
+ * submitter (deviation.submit) and each person whose edit changed a finding (classification,
+ * investigation, root cause or impact; deviation.edit records the changed fields in `after`).
+ * Raising the deviation or editing its title is reporting, not investigating.
+ */
+export function listInvestigators(events: readonly DeviationEventFacts[]): string[] {
+	const people = new Set<string>();
+	for (const e of events) {
+		if (e.actorId === null) continue;
+		const changed = e.after !== null && typeof e.after === 'object' ? Object.keys(e.after) : [];
+		if (e.action === 'deviation.submit' || (e.action === 'deviation.edit' && changed.some((k) => findingFields.includes(k)))) people.add(e.actorId);
+	}
+	return [...people];
 }
 
 export interface Actor {
@@ -77,7 +109,7 @@ export type DeviationRefusal =
 	| 'incomplete'
 	/** The action needs a reason and none was given (422). */
 	| 'reason-required'
-	/** The person submitted the investigation and may not approve its closure (403). */
+	/** The person submitted or wrote (part of) the investigation and may not approve its closure (403). */
 	| 'own-submission';
 
 export type DeviationCheck = { ok: true } | { ok: false; reason: DeviationRefusal; missing?: RequiredField[] };
@@ -107,10 +139,11 @@ export function checkDeviationAction(action: DeviationAction, d: DeviationFacts,
 		const missing = listMissingForSubmission(d);
 		if (missing.length > 0) return { ok: false, reason: 'incomplete', missing };
 	}
-	// Separation of duties: whoever submitted the investigation may not approve its closure. Part 11
-	// does not say so in words (it asks for authority checks, 11.10(g), and signatures that carry
-	// their meaning, 11.50); an independent approver is common GMP practice (the four-eyes principle).
-	if (action === 'close' && d.submittedBy !== null && d.submittedBy === who.id) return { ok: false, reason: 'own-submission' };
+	// Separation of duties: whoever submitted or wrote the investigation, in any round, may not
+	// approve its closure. Part 11 does not say so in words (it asks for authority checks, 11.10(g),
+	// and signatures that carry their meaning, 11.50); an independent approver is common GMP
+	// practice (the four-eyes principle).
+	if (action === 'close' && who.id !== null && (d.submittedBy === who.id || (d.investigators ?? []).includes(who.id))) return { ok: false, reason: 'own-submission' };
 	return { ok: true };
 }
 

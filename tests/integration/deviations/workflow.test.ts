@@ -173,6 +173,23 @@ describe.each(databaseKinds)('the deviation workflow on %s', (kind) => {
 		expect((await step(qa2, id, 'close', submitted.version)).status).toBe('closed');
 	});
 
+	// The same rule over rounds: sending back and resubmitting by someone else does not make the
+	// first investigator independent of the findings.
+	test('whoever wrote the investigation in an earlier round cannot approve its closure after a resubmission by someone else (403)', async () => {
+		const { id } = await raise();
+		await step(qa, id, 'start-investigation', 1);
+		const filled = await updateDeviation(db, qa.user, { id, expectedVersion: 2, fields: findings });
+		const first = await step(qa, id, 'submit', filled.version);
+		const sentBack = await step(qa2, id, 'send-back', first.version, { reason: 'Add the balance check (invented).' });
+		const edited = await updateDeviation(db, supervisor.user, { id, expectedVersion: sentBack.version, fields: { investigation: `${findings.investigation} Balance checked against its reference weight (invented).` } });
+		const second = await step(supervisor, id, 'submit', edited.version);
+		const before = await snapshotOf(db, id);
+		expect(await outcome(step(qa, id, 'close', second.version))).toBe('403 own-submission');
+		expect(await snapshotOf(db, id)).toEqual(before);
+		expect((await getDeviation(db, id))!.investigators.sort()).toEqual([qa.user.id, supervisor.user.id].sort());
+		expect((await step(qa2, id, 'close', second.version)).status).toBe('closed');
+	});
+
 	test('only QA closes, sends back or cancels: an operator is refused with 403 before any signature', async () => {
 		const { id } = await raise();
 		const before = await snapshotOf(db, id);

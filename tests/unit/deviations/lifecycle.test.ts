@@ -6,6 +6,7 @@ import {
 	deviationStatuses,
 	deviationStatusChanges,
 	listAvailableDeviationActions,
+	listInvestigators,
 	listMissingForSubmission,
 	type DeviationAction,
 	type DeviationFacts,
@@ -103,6 +104,31 @@ describe('deviation guard rules', () => {
 		expect(checkDeviationAction('close', facts('pending-qa-approval', { submittedBy: QA.id }), QA2)).toEqual({ ok: true });
 		// The submitter may still send it back or cancel it: neither approves their own work.
 		expect(checkDeviationAction('send-back', facts('pending-qa-approval', { submittedBy: QA.id }), QA, { reason: 'More data' })).toEqual({ ok: true });
+	});
+
+	it('common GMP practice (four eyes): whoever wrote or submitted the investigation in an earlier round may not approve its closure either', () => {
+		// QA 1 wrote and submitted, QA 2 sent it back, the operator's supervisor resubmitted.
+		const rounds = facts('pending-qa-approval', { submittedBy: 'sup-1', investigators: [QA.id, 'sup-1'] });
+		expect(checkDeviationAction('close', rounds, QA)).toEqual({ ok: false, reason: 'own-submission' });
+		expect(checkDeviationAction('close', rounds, QA2)).toEqual({ ok: true });
+		expect(listAvailableDeviationActions(rounds, QA)).not.toContain('close');
+		expect(listAvailableDeviationActions(rounds, QA2)).toContain('close');
+	});
+
+	it('the investigators are the submitters and whoever changed a finding; raising or retitling is not investigating', () => {
+		const events = [
+			{ actorId: 'op-1', action: 'deviation.raise', after: { title: 'Fill weight low' } },
+			{ actorId: 'op-1', action: 'deviation.edit', after: { title: 'Fill weight low on line 2', version: 2 } },
+			{ actorId: 'qa-1', action: 'deviation.edit', after: { investigation: 'Checked the balance.', version: 3 } },
+			{ actorId: 'qa-1', action: 'deviation.submit', after: { status: 'pending-qa-approval', version: 4 } },
+			{ actorId: 'qa-2', action: 'deviation.send-back', after: { status: 'investigating', version: 5 } },
+			{ actorId: 'sup-1', action: 'deviation.edit', after: { rootCause: 'Worn seal.', version: 6 } },
+			{ actorId: 'sup-2', action: 'deviation.edit', after: { classification: 'minor', version: 7 } },
+			{ actorId: 'sup-1', action: 'deviation.submit', after: { status: 'pending-qa-approval', version: 8 } },
+			{ actorId: null, action: 'deviation.edit', after: { impact: 'None.' } }
+		];
+		expect(listInvestigators(events).sort()).toEqual(['qa-1', 'sup-1', 'sup-2']);
+		expect(listInvestigators([])).toEqual([]);
 	});
 
 	it('Annex 11, 9: send-back and cancel need a reason; blank is refused', () => {

@@ -8,6 +8,7 @@ import { openDatabase, type DatabaseHandle, type Tx } from '../db/client';
 import { appendEvent, type Actor } from '../audit/ledger';
 import { keyIdOf } from '../audit/checkpoint';
 import { verifyChain } from '../audit/verify';
+import { runUpkeep } from '../db/upkeep';
 import { queryRows } from '../audit/rows';
 import { localBlobStore, type BlobStore } from '../blobs/store';
 import { isDatabaseEmpty, listTables, quoteIdent } from './catalog';
@@ -111,7 +112,7 @@ async function loadAll(handle: DatabaseHandle, file: string, checked: CheckedBac
 	const progress = options.onProgress ?? (() => undefined);
 	const migrations = readMigrationFiles({ migrationsFolder: options.migrationsFolder });
 	checkMigrations(manifest, migrations);
-	return handle.db.transaction(async (tx: Tx) => {
+	const report = await handle.db.transaction(async (tx: Tx) => {
 		await applyPortableSettings(tx);
 		progress('applying migrations');
 		await applyMigrations(tx, migrations.slice(0, manifest.migrations.length));
@@ -161,6 +162,14 @@ async function loadAll(handle: DatabaseHandle, file: string, checked: CheckedBac
 			migrationsApplied: migrations.length
 		};
 	});
+	// After the commit, as PostgreSQL's documentation advises after any restore (pg_restore: "run
+	// ANALYZE on each restored table so the optimizer has useful statistics"): VACUUM (ANALYZE) of
+	// every table also sets the hint bits of the bulk-loaded rows once, so the first verification or
+	// trail query after a restore does not pay for it. The restore has committed by now; a failure
+	// here is reported but does not undo it.
+	progress('analysing the restored tables');
+	await runUpkeep(handle.db, { all: true }).catch((err) => console.error('[restore] VACUUM (ANALYZE) after the restore failed:', err instanceof Error ? err.message : err));
+	return report;
 }
 
 const MANIFEST = 'manifest.json';

@@ -1,6 +1,6 @@
 import { and, asc, count, desc, eq, ilike, isNull, notInArray, or, type SQL } from 'drizzle-orm';
 import { auditEvent, batch, deviation, signature, type Deviation, type Signature } from '../db/schema';
-import type { DeviationClassification, DeviationStatus } from '$lib/domain/deviation-lifecycle';
+import { listInvestigators, type DeviationClassification, type DeviationStatus } from '$lib/domain/deviation-lifecycle';
 import type { Executor } from '../db/client';
 
 /** Statuses that no longer hold a batch back: the deviation is finished (closed) or withdrawn (cancelled). */
@@ -122,6 +122,8 @@ export interface DeviationDetail extends Deviation {
 	events: DeviationHistoryEvent[];
 	/** Its signatures, oldest first (11.50: manifestations shown with the record). */
 	signatures: Signature[];
+	/** The ids of everyone who wrote or submitted its investigation (they may not approve its closure). */
+	investigators: string[];
 }
 
 /** One deviation with its history: its audit events and its signatures. */
@@ -142,5 +144,14 @@ export async function getDeviation(db: Executor, id: string): Promise<DeviationD
 		.from(signature)
 		.where(and(eq(signature.entityType, 'deviation'), eq(signature.entityId, id)))
 		.orderBy(asc(signature.at), asc(signature.auditSeq));
-	return { ...row.d, batchNumber: row.batchNumber, batchStatus: row.batchStatus, events, signatures };
+	return { ...row.d, batchNumber: row.batchNumber, batchStatus: row.batchStatus, events, signatures, investigators: await investigatorsOf(db, id) };
+}
+
+/** Who took part in a deviation's investigation, read from its audit events (listInvestigators). */
+export async function investigatorsOf(db: Executor, id: string): Promise<string[]> {
+	const events = await db
+		.select({ actorId: auditEvent.actorId, action: auditEvent.action, after: auditEvent.after })
+		.from(auditEvent)
+		.where(and(eq(auditEvent.entityType, 'deviation'), eq(auditEvent.entityId, id), or(eq(auditEvent.action, 'deviation.submit'), eq(auditEvent.action, 'deviation.edit'))));
+	return listInvestigators(events);
 }

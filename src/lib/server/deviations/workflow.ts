@@ -19,7 +19,7 @@ import {
 import { DeviationError } from './errors';
 import { blankToNull } from './raise';
 import { notifyDeviation } from './notify';
-import type { DeviationDetail } from './queries';
+import { investigatorsOf, type DeviationDetail } from './queries';
 
 /**
  * The deviation workflow services (issue 8; $lib/domain/deviation-lifecycle holds the rules).
@@ -72,15 +72,18 @@ export interface DeviationFields {
 	capaRefs?: string[];
 }
 
-function factsOf(row: Deviation): DeviationFacts {
-	return { status: row.status, classification: row.classification, investigation: row.investigation, rootCause: row.rootCause, impact: row.impact, submittedBy: row.submittedBy };
+function factsOf(row: Deviation, investigators: readonly string[]): DeviationFacts {
+	return { status: row.status, classification: row.classification, investigation: row.investigation, rootCause: row.rootCause, impact: row.impact, submittedBy: row.submittedBy, investigators };
 }
 
 const fieldLabels: Record<string, string> = { classification: 'classification', investigation: 'investigation', rootCause: 'root cause', impact: 'impact on the batch' };
 
-/** Turns a refusal of the rules into the error the routes map (403, 409, 422). */
-export function assertDeviationAction(user: SessionUser, row: Deviation, action: DeviationAction, reason?: string | null): void {
-	const r = checkDeviationAction(action, factsOf(row), { id: user.id, permissions: permissionsOfDeviationUser(user) }, { reason });
+/**
+ * Turns a refusal of the rules into the error the routes map (403, 409, 422). `investigators`
+ * (investigatorsOf) matters for closure only.
+ */
+export function assertDeviationAction(user: SessionUser, row: Deviation, action: DeviationAction, reason?: string | null, investigators: readonly string[] = []): void {
+	const r = checkDeviationAction(action, factsOf(row, investigators), { id: user.id, permissions: permissionsOfDeviationUser(user) }, { reason });
 	if (r.ok) return;
 	switch (r.reason) {
 		case 'not-permitted':
@@ -95,7 +98,7 @@ export function assertDeviationAction(user: SessionUser, row: Deviation, action:
 			throw new DeviationError('incomplete', `${row.number} is missing: ${missing.map((m) => fieldLabels[m]).join(', ')}.`, missing);
 		}
 		case 'own-submission':
-			throw new DeviationError('own-submission', `You submitted the investigation of ${row.number}: another QA person must approve its closure.`);
+			throw new DeviationError('own-submission', `You took part in the investigation of ${row.number}: another QA person must approve its closure.`);
 	}
 }
 
@@ -150,14 +153,16 @@ export async function transitionDeviation(db: Database, input: TransitionInput):
 	if (!rule || rule.meaning === null) throw new DeviationError('invalid-input', 'Unknown step.');
 	const reason = blankToNull(input.reason);
 	const before = await findRow(db, input.id);
-	assertDeviationAction(input.user, before, input.action, reason);
+	// Closure: everyone who wrote or submitted the investigation, in any round, is excluded.
+	const investigators = (executor: Database | Tx) => (input.action === 'close' ? investigatorsOf(executor, input.id) : Promise.resolve([]));
+	assertDeviationAction(input.user, before, input.action, reason, await investigators(db));
 	assertVersion(before, input.expectedVersion);
 	const proof = await verifySigner(db, { signer: input.user, session: input.session, meaning: rule.meaning, credentials: input.credentials, address: input.address ?? 'unknown', relyingParty: input.relyingParty });
 	return runUnitOfWork(db, actorOf(input.user), async (uow) => {
 		const row = await lockRow(uow.tx, input.id);
 		// Version first under the lock: a change that won the race is reported as such (409 stale).
 		assertVersion(row, input.expectedVersion);
-		assertDeviationAction(input.user, row, input.action, reason);
+		assertDeviationAction(input.user, row, input.action, reason, await investigators(uow.tx));
 		const change: PgUpdateSetSource<typeof deviation> = { status: rule.to!, version: row.version + 1, updatedAt: sql`now()` };
 		if (input.action === 'submit') Object.assign(change, { submittedBy: input.user.id, submittedAt: sql`now()` });
 		if (input.action === 'cancel') change.cancelReason = reason;

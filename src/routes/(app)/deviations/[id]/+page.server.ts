@@ -21,8 +21,8 @@ export const load = (async (event) => {
 	const db = database.db;
 	const d = await getDeviation(db, event.params.id);
 	if (!d) error(404, { message: 'No such deviation.' });
-	const { events, signatures, ...deviation } = d;
-	const actions = listAvailableDeviationActions(deviation, { id: user.id, permissions: permissionsOfDeviationUser(user) });
+	const { events, signatures, investigators, ...deviation } = d;
+	const actions = listAvailableDeviationActions({ ...deviation, investigators }, { id: user.id, permissions: permissionsOfDeviationUser(user) });
 	return {
 		deviation,
 		events,

@@ -1,0 +1,127 @@
+import { sql } from 'drizzle-orm';
+import type { DatabaseHandle, Executor } from './client';
+import { pgliteClientOf, queryRows } from '../audit/rows';
+
+/**
+ * Database upkeep for the embedded engine. A PostgreSQL server runs autovacuum, which keeps the
+ * planner's statistics fresh (ANALYZE) and marks pages all-visible with their hint bits set
+ * (VACUUM). PGlite is one process with no background workers, so it runs neither: its tables would
+ * never be analysed, the trail's filters would be planned on default guesses (a date filter over
+ * 1,000,000 events took 2.2 s unanalysed, 0.4 s analysed), and the first reader of every page
+ * written by a bulk load (a restore) would pay for setting its hint bits. This module does that
+ * work itself, table by table, when a table has grown as much as autovacuum would wait for.
+ * Housekeeping only: no GMP data changes, so nothing is audited.
+ */
+
+/** What the catalogue says of one table: its size now and as of its last VACUUM or ANALYZE. */
+export interface TableSize {
+	table: string;
+	/** Pages the table has now (pg_relation_size / block size). */
+	pages: number;
+	/** pg_class.relpages: pages at the last VACUUM or ANALYZE (0 if never). */
+	relpages: number;
+	/** pg_class.reltuples: rows at the last VACUUM or ANALYZE (-1 if never, PostgreSQL 14 and later). */
+	reltuples: number;
+}
+
+// autovacuum_analyze_threshold and autovacuum_analyze_scale_factor at their defaults
+// (PostgreSQL 15 documentation, 20.10 "Automatic Vacuuming"; from memory: 50 rows and 0.1).
+export const ANALYZE_BASE_ROWS = 50;
+export const ANALYZE_SCALE = 0.1;
+
+/**
+ * Whether a table is due: the rule of autovacuum's analyze threshold (PostgreSQL 15
+ * documentation, 25.1.6 "The Autovacuum Daemon": analyze threshold = base threshold + scale
+ * factor × number of tuples), where the rows added since are estimated the way the planner
+ * estimates a table's size, by scaling reltuples by the pages it has now against relpages
+ * (documentation 76.1 "Row Estimation Examples"). PGlite keeps no reliable change counters
+ * (pg_stat_user_tables stays at 0 there), so pages are the measure. A table never analysed is due
+ * as soon as it has a page; an empty one never is.
+ */
+export function isTableDue(size: TableSize): boolean {
+	if (size.pages === 0) return false;
+	if (size.reltuples < 0 || size.relpages === 0) return true;
+	const rowsNow = (size.reltuples / size.relpages) * size.pages;
+	return rowsNow - size.reltuples > ANALYZE_BASE_ROWS + ANALYZE_SCALE * size.reltuples;
+}
+
+/** Every ordinary table of the current schema with its sizes, largest first. */
+export async function readTableSizes(db: Executor): Promise<TableSize[]> {
+	const rows = await queryRows<[string, number | string, number | string, number | string]>(
+		db,
+		`select c.relname, pg_catalog.pg_relation_size(c.oid) / pg_catalog.current_setting('block_size')::bigint, c.relpages, c.reltuples
+		from pg_catalog.pg_class as c join pg_catalog.pg_namespace as n on n.oid = c.relnamespace
+		where c.relkind = 'r' and n.nspname = pg_catalog.current_schema()
+		order by 2 desc, 1`,
+		[]
+	);
+	return rows.map(([table, pages, relpages, reltuples]) => ({ table, pages: Number(pages), relpages: Number(relpages), reltuples: Number(reltuples) }));
+}
+
+export interface UpkeepReport {
+	tables: string[];
+	ms: number;
+}
+
+/**
+ * VACUUM (ANALYZE) of the tables that are due (or of `tables`). Runs outside any transaction, as
+ * VACUUM must; on PGlite it holds the one connection while it runs, so it is kept to due tables.
+ */
+export async function runUpkeep(db: Executor, options: { tables?: string[]; all?: boolean } = {}): Promise<UpkeepReport> {
+	const started = performance.now();
+	const sizes = await readTableSizes(db);
+	const known = new Set(sizes.map((s) => s.table));
+	const tables = options.all ? [...known] : options.tables ? options.tables.filter((t) => known.has(t)) : sizes.filter(isTableDue).map((s) => s.table);
+	if (tables.length > 0) {
+		const list = tables.map(quoteIdent).join(', ');
+		const client = pgliteClientOf<{ exec(text: string): Promise<unknown> }>(db);
+		if (client) await client.exec(`VACUUM (ANALYZE) ${list}`);
+		else await db.execute(sql.raw(`VACUUM (ANALYZE) ${list}`));
+	}
+	return { tables, ms: performance.now() - started };
+}
+
+function quoteIdent(name: string): string {
+	return `"${name.replace(/"/g, '""')}"`;
+}
+
+const running = new WeakMap<object, { interval: ReturnType<typeof setInterval>; first: ReturnType<typeof setTimeout> }>();
+
+/**
+ * Starts the upkeep timer for an embedded database (a PostgreSQL server has autovacuum; returns
+ * false and does nothing there). Checks every `checkMinutes` (the catalogue read is cheap) and
+ * vacuums what is due; unref'd, off the request path, never two runs at once.
+ */
+export function startUpkeepSchedule(handle: DatabaseHandle, options: { checkMinutes?: number; firstAfterSeconds?: number } = {}): boolean {
+	if (handle.kind !== 'pglite') return false;
+	if (running.has(handle)) return true;
+	let busy = false;
+	const tick = async () => {
+		if (busy) return;
+		busy = true;
+		try {
+			const report = await runUpkeep(handle.db);
+			if (report.tables.length > 0) console.log(`[db] upkeep: VACUUM (ANALYZE) of ${report.tables.join(', ')} in ${Math.round(report.ms)} ms`);
+		} catch (err) {
+			console.error('[db] upkeep failed:', err instanceof Error ? err.message : err);
+		} finally {
+			busy = false;
+		}
+	};
+	const interval = setInterval(tick, (options.checkMinutes ?? 10) * 60_000);
+	// The first run waits a little, so a start-up with a large unanalysed ledger answers requests first.
+	const first = setTimeout(tick, (options.firstAfterSeconds ?? 60) * 1000);
+	interval.unref?.();
+	first.unref?.();
+	running.set(handle, { interval, first });
+	return true;
+}
+
+export function stopUpkeepSchedule(handle: DatabaseHandle): void {
+	const timers = running.get(handle);
+	if (timers) {
+		clearInterval(timers.interval);
+		clearTimeout(timers.first);
+	}
+	running.delete(handle);
+}
