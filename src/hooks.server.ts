@@ -46,8 +46,7 @@ export const init: ServerInit = async () => {
 	}
 	// adapter-node emits this on SIGTERM/SIGINT; an open PGlite would keep the process alive.
 	process.once('sveltekit:shutdown' as never, () => {
-		stopUpkeepSchedule(database);
-		void stopMailSender().finally(() => database.close());
+		void Promise.allSettled([stopUpkeepSchedule(database), stopMailSender()]).finally(() => database.close());
 	});
 };
 

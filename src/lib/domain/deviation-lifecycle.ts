@@ -81,16 +81,20 @@ const findingFields: readonly string[] = requiredForSubmission;
 
 /**
  * The people who took part in the investigation, from the deviation's own audit events: each
- * submitter (deviation.submit) and each person whose edit changed a finding (classification,
- * investigation, root cause or impact; deviation.edit records the changed fields in `after`).
- * Raising the deviation or editing its title is reporting, not investigating.
+ * submitter (deviation.submit), each person whose edit changed a finding (classification,
+ * investigation, root cause or impact; deviation.edit records the changed fields in `after`, a
+ * cleared one as null), and whoever raised it with a finding already given (a manual raise may
+ * set the classification; deviation.raise records every field, unset ones as null). Raising
+ * without findings, or editing the title, is reporting, not investigating.
  */
 export function listInvestigators(events: readonly DeviationEventFacts[]): string[] {
 	const people = new Set<string>();
 	for (const e of events) {
 		if (e.actorId === null) continue;
-		const changed = e.after !== null && typeof e.after === 'object' ? Object.keys(e.after) : [];
-		if (e.action === 'deviation.submit' || (e.action === 'deviation.edit' && changed.some((k) => findingFields.includes(k)))) people.add(e.actorId);
+		const after = e.after !== null && typeof e.after === 'object' ? (e.after as Record<string, unknown>) : {};
+		const edited = e.action === 'deviation.edit' && findingFields.some((k) => k in after);
+		const raisedWithFindings = e.action === 'deviation.raise' && findingFields.some((k) => after[k] !== null && after[k] !== undefined);
+		if (e.action === 'deviation.submit' || edited || raisedWithFindings) people.add(e.actorId);
 	}
 	return [...people];
 }

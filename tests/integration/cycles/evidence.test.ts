@@ -121,18 +121,21 @@ describe.each(databaseKinds)('cycle evidence in the batch record on %s', (kind) 
 		await t.handle.db.update(batch).set({ status: 'released' }).where(eq(batch.id, batchId));
 		const closed = await recordRunLeakTest(t.handle.db, actor, runId, { fromS: RISE.startS + 10, toS: RISE.startS + RISE.durationS }).catch((e: unknown) => e);
 		expect(closed).toBeInstanceOf(LeakTestError);
-		expect((closed as InstanceType<typeof LeakTestError>).status).toBe(409);
+		expect(closed).toMatchObject({ status: 409, code: 'batch-closed', params: { status: 'released' } });
 		const unknown = await recordRunLeakTest(t.handle.db, actor, 'no-such-run', { fromS: 0, toS: 10 }).catch((e: unknown) => e);
-		expect((unknown as InstanceType<typeof LeakTestError>).status).toBe(404);
+		expect(unknown).toMatchObject({ status: 404, code: 'run-not-found' });
 		const backwards = await recordRunLeakTest(t.handle.db, actor, runId, { fromS: 100, toS: 50 }).catch((e: unknown) => e);
-		expect((backwards as InstanceType<typeof LeakTestError>).status).toBe(400);
+		expect(backwards).toMatchObject({ status: 400, code: 'invalid-window' });
 		// The route only parses (under a 64 KB cap, finding 8), guards and calls the service.
 		const operator: SessionUser = { id: actor.id!, username: 'op', name: actor.name, kind: 'person', roles: ['operator'], mustChangePassword: false, locale: 'en' };
 		const post = (body: string) => {
 			const url = new URL(`http://localhost/api/runs/${runId}/leak-tests`);
 			return leakTestRoute({ url, params: { id: runId }, locals: { user: operator, session: null, requestId: 'test', locale: 'en' }, request: new Request(url, { method: 'POST', body }) } as never);
 		};
-		expect((await post(JSON.stringify({ fromS: RISE.startS + 10, toS: RISE.startS + RISE.durationS }))).status).toBe(409); // the batch is released
+		const refused = await post(JSON.stringify({ fromS: RISE.startS + 10, toS: RISE.startS + RISE.durationS }));
+		expect(refused.status).toBe(409); // the batch is released
+		// The API keeps its English message and adds the stable code.
+		expect(await refused.json()).toEqual({ code: 'batch-closed', message: expect.stringMatching(/is released; nothing more can be recorded/) });
 		expect((await post('{"fromS":')).status).toBe(400);
 		expect((await post(JSON.stringify({ fromS: 0, toS: 10, pad: 'x'.repeat(70_000) }))).status).toBe(413);
 	});

@@ -173,13 +173,14 @@ describe.each(databaseKinds)('the deviation workflow on %s', (kind) => {
 		expect((await step(qa2, id, 'close', submitted.version)).status).toBe('closed');
 	});
 
-	// The same rule over rounds: sending back and resubmitting by someone else does not make the
-	// first investigator independent of the findings.
+	// The same rule over rounds, for someone who only wrote findings: sending back and
+	// resubmitting by someone else does not make the first writer independent of them.
 	test('whoever wrote the investigation in an earlier round cannot approve its closure after a resubmission by someone else (403)', async () => {
 		const { id } = await raise();
-		await step(qa, id, 'start-investigation', 1);
-		const filled = await updateDeviation(db, qa.user, { id, expectedVersion: 2, fields: findings });
-		const first = await step(qa, id, 'submit', filled.version);
+		await step(supervisor, id, 'start-investigation', 1);
+		// QA 1 writes the findings but never submits; the supervisor submits them.
+		const written = await updateDeviation(db, qa.user, { id, expectedVersion: 2, fields: findings });
+		const first = await step(supervisor, id, 'submit', written.version);
 		const sentBack = await step(qa2, id, 'send-back', first.version, { reason: 'Add the balance check (invented).' });
 		const edited = await updateDeviation(db, supervisor.user, { id, expectedVersion: sentBack.version, fields: { investigation: `${findings.investigation} Balance checked against its reference weight (invented).` } });
 		const second = await step(supervisor, id, 'submit', edited.version);
@@ -187,6 +188,7 @@ describe.each(databaseKinds)('the deviation workflow on %s', (kind) => {
 		expect(await outcome(step(qa, id, 'close', second.version))).toBe('403 own-submission');
 		expect(await snapshotOf(db, id)).toEqual(before);
 		expect((await getDeviation(db, id))!.investigators.sort()).toEqual([qa.user.id, supervisor.user.id].sort());
+		// QA 2 only sent it back: independent of the findings, so may approve.
 		expect((await step(qa2, id, 'close', second.version)).status).toBe('closed');
 	});
 

@@ -9,9 +9,10 @@ import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
 import { and, asc, eq } from 'drizzle-orm';
 import { createTestDatabase, databaseKinds, type TestDatabase } from '../support/databases';
 import { createTestActor, createTestDryer } from '../cycles/support';
-import { auditEvent } from '$lib/server/db/schema';
+import { auditEvent, equipment } from '$lib/server/db/schema';
+import { messagesFor } from '$lib/i18n';
 import { runUnitOfWork } from '$lib/server/work';
-import { changeStatus, createEquipment, listEquipmentEvents, recordCalibration } from '$lib/server/equipment/registry';
+import { applyEquipmentChange, changeStatus, createEquipment, listEquipmentEvents, recordCalibration } from '$lib/server/equipment/registry';
 import { checkEquipmentUsableById } from '$lib/server/equipment/usable';
 import type { SessionUser } from '$lib/server/auth/types';
 import type { Actor } from '$lib/server/audit/ledger';
@@ -106,9 +107,51 @@ describe.each(databaseKinds)('equipment registry on %s', (kind) => {
 		expect(await submit({ status: 'out-of-service', reason: 'Condenser defrost fault' })).toEqual({ saved: true });
 		const events = await t.handle.db.select().from(auditEvent).where(and(eq(auditEvent.entityId, dryer.id), eq(auditEvent.action, 'equipment.status')));
 		expect(events.map((e) => e.after)).toEqual([{ status: 'out-of-service', equipment: 'LYO-T9' }]);
-		const again = (await submit({ status: 'out-of-service', reason: 'Twice' })) as { status: number; data: { message: string } };
+		const again = (await submit({ status: 'out-of-service', reason: 'Twice' })) as { status: number; data: { code: string; message: string } };
 		expect(again.status).toBe(400);
-		expect(again.data.message).toMatch(/already "out-of-service"/);
+		expect(again.data).toMatchObject({ code: 'equipment.same-status', message: 'The status is already “Out of service”.' });
+	});
+
+	it('each refusal of the registry service has its code, status and params', async () => {
+		const refusal = (p: Promise<unknown>) => p.then(() => null, (e: unknown) => e);
+		const dup = { code: 'LYO-E1', name: 'Twin', class: 'balance', location: 'Room 3', calibratedOn: null, calibrationDueOn: null, properties: {}, reason: 'Test set-up' };
+		expect(await refusal(runUnitOfWork(t.handle.db, actor, (uow) => createEquipment(uow, dup)))).toMatchObject({ name: 'EquipmentError', code: 'equipment-exists', status: 409, params: { equipment: 'LYO-E1' } });
+		const status = { status: 'out-of-service' as const, reason: 'Test' };
+		expect(await refusal(applyEquipmentChange(t.handle.db, actor, 'no-such-equipment', { kind: 'status', instrumentId: null, input: status }))).toMatchObject({ code: 'not-found', status: 404 });
+		expect(await refusal(applyEquipmentChange(t.handle.db, actor, dryerId, { kind: 'status', instrumentId: 'no-such-instrument', input: status }))).toMatchObject({ code: 'instrument-not-found', status: 404 });
+		const current = (await t.handle.db.select({ status: equipment.status }).from(equipment).where(eq(equipment.id, dryerId)))[0].status;
+		expect(await refusal(applyEquipmentChange(t.handle.db, actor, dryerId, { kind: 'status', instrumentId: null, input: { status: current, reason: 'Again' } }))).toMatchObject({ code: 'same-status', status: 409, params: { status: current } });
+		const instrument = { tag: 'PI-101', name: 'Second manometer', role: 'manometer' as const, calibratedOn: null, calibrationDueOn: null, reason: 'Test set-up' };
+		expect(await refusal(applyEquipmentChange(t.handle.db, actor, dryerId, { kind: 'instrument', input: instrument }))).toMatchObject({ code: 'instrument-exists', status: 409, params: { equipment: 'LYO-E1', tag: 'PI-101' } });
+	});
+
+	// Project rule: all UI text through the catalogue (src/lib/i18n): the page's refusals are the
+	// catalogue's words in the person's language, never the service's or zod's English. The German
+	// wording is the author's own.
+	it.each(['en', 'de'] as const)('the page answers refusals with the catalogue’s words in %s', async (locale) => {
+		const words = messagesFor(locale).equipment;
+		const admin: SessionUser = { id: actor.id!, username: 'ad', name: actor.name, kind: 'person', roles: ['admin'], mustChangePassword: false, locale };
+		const { dryer, manometer } = await createTestDryer(t.handle.db, actor, `LYO-L${locale}`);
+		const submit = (action: 'status' | 'calibrate' | 'addInstrument', fields: Record<string, string>, id = dryer.id) => {
+			const url = new URL(`http://localhost/equipment/${id}?/${action}`);
+			const body = new FormData();
+			for (const [k, v] of Object.entries(fields)) body.set(k, v);
+			return equipmentActions[action]({ url, params: { id }, locals: { user: admin, session: null, requestId: 'test', locale }, request: new Request(url, { method: 'POST', body }) } as never) as Promise<{ status: number; data: { code: string; message: string; fields: string[] } }>;
+		};
+		const same = await submit('status', { target: manometer.id, status: 'in-service', reason: 'Still in service' });
+		expect(same).toMatchObject({ status: 400, data: { code: 'equipment.same-status', message: locale === 'en' ? 'The status is already “In service”.' : 'Der Status ist bereits „In Betrieb“.' } });
+		expect(await submit('status', { status: 'out-of-service', reason: 'Gone' }, 'no-such-equipment')).toMatchObject({ status: 404, data: { code: 'equipment.not-found', message: words.errors['not-found'] } });
+		expect(await submit('status', { target: 'no-such-instrument', status: 'out-of-service', reason: 'Gone' })).toMatchObject({ status: 404, data: { code: 'equipment.instrument-not-found', message: words.errors['instrument-not-found'] } });
+		const twin = await submit('addInstrument', { tag: 'PI-101', name: 'Second manometer', role: 'manometer', reason: 'Test set-up' });
+		expect(twin).toMatchObject({ status: 400, data: { code: 'equipment.instrument-exists', message: words.errors['instrument-exists']({ equipment: dryer.code, tag: 'PI-101' }) } });
+		// Input the schemas refuse: the fields by the form's labels (equipment.manage), no zod English.
+		const bad = await submit('addInstrument', { tag: '', name: 'Shelf probe', role: 'shelf', reason: 'x' });
+		expect(bad).toMatchObject({ status: 400, data: { code: 'equipment.invalid-input', fields: ['tag', 'reason'] } });
+		expect(bad.data.message).toBe(locale === 'en' ? 'Check these fields: Tag, Reason for the change.' : 'Bitte prüfen Sie diese Felder: Messstelle, Grund der Änderung.');
+		expect(bad.data.message).not.toMatch(/too small|too_small|expected|invalid/i);
+		const backwards = await submit('calibrate', { target: 'equipment', calibratedOn: '2026-07-02', calibrationDueOn: '2026-07-01', reference: 'CAL-INV-7', reason: 'Annual calibration' });
+		expect(backwards).toMatchObject({ status: 400, data: { code: 'equipment.invalid-input', message: words.errors['due-before-calibration'] } });
+		expect(backwards.data.message).toBe(locale === 'en' ? 'The next due date is before the calibration date.' : 'Das nächste Fälligkeitsdatum liegt vor dem Kalibrierdatum.');
 	});
 
 	it('saves and lists log mappings through the API, for uploaders only', async () => {

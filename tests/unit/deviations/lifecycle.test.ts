@@ -129,6 +129,11 @@ describe('deviation guard rules', () => {
 		];
 		expect(listInvestigators(events).sort()).toEqual(['qa-1', 'sup-1', 'sup-2']);
 		expect(listInvestigators([])).toEqual([]);
+		// A manual raise that already classifies the deviation is a finding; one that leaves every
+		// finding null (as the raise records them) is not. Clearing a finding by an edit is one too.
+		expect(listInvestigators([{ actorId: 'qa-3', action: 'deviation.raise', after: { title: 'T', classification: 'minor', investigation: null } }])).toEqual(['qa-3']);
+		expect(listInvestigators([{ actorId: 'op-2', action: 'deviation.raise', after: { title: 'T', classification: null, investigation: null } }])).toEqual([]);
+		expect(listInvestigators([{ actorId: 'sup-3', action: 'deviation.edit', after: { impact: null, version: 4 } }])).toEqual(['sup-3']);
 	});
 
 	it('Annex 11, 9: send-back and cancel need a reason; blank is refused', () => {

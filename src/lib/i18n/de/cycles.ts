@@ -93,7 +93,16 @@ export const cycles: DeepPartial<typeof en.cycles> = {
 		passed: 'Innerhalb des Grenzwerts',
 		failed: 'Über dem Grenzwert',
 		none: 'Kein Test zu diesem Lauf erfasst.',
-		fitStats: (p: { n: number; r2: string }) => `Ausgleichsgerade durch ${p.n} Messwerte, R² ${p.r2}`
+		fitStats: (p: { n: number; r2: string }) => `Ausgleichsgerade durch ${p.n} Messwerte, R² ${p.r2}`,
+		errors: {
+			'equipment-not-found': 'Dieses Gerät gibt es nicht.',
+			'no-leak-properties': (p: { equipment: string }) => `Für ${p.equipment} sind im Register kein Kammervolumen und kein Grenzwert der Leckrate erfasst; die Leckrate kann nicht berechnet werden.`,
+			'run-not-found': 'Diesen Zykluslauf gibt es nicht.',
+			'batch-closed': (p: { batch: string; status: string }) => `Die Charge ${p.batch} ist abgeschlossen (${p.status}): zu ihren Läufen kann nichts mehr erfasst werden.`,
+			'no-manometer': 'Der Lauf hat keinen Kanal eines Kapazitätsmanometers, der ausgewertet werden kann.',
+			'too-few-readings': 'Weniger als drei Manometerwerte im Fenster: wählen Sie ein längeres Fenster.',
+			'invalid-window': 'Geben Sie ein Fenster ab 0 h an, dessen Ende nach seinem Beginn liegt.'
+		}
 	},
 	upload: {
 		title: 'Zyklusprotokoll importieren',

@@ -40,5 +40,15 @@ export const equipment: DeepPartial<typeof en.equipment> = {
 		save: 'Speichern',
 		saved: 'Gespeichert.'
 	},
-	problems: { 'out-of-service': 'außer Betrieb', 'cleaning-due': 'Reinigung fällig', 'calibration-overdue': 'Kalibrierung überfällig' }
+	problems: { 'out-of-service': 'außer Betrieb', 'cleaning-due': 'Reinigung fällig', 'calibration-overdue': 'Kalibrierung überfällig' },
+	errors: {
+		'equipment-exists': (p: { equipment: string }) => `Ein Gerät mit der Kennung ${p.equipment} gibt es bereits.`,
+		'not-found': 'Dieses Gerät gibt es nicht.',
+		'instrument-not-found': 'Dieses Messgerät gibt es an diesem Gerät nicht.',
+		'same-status': (p: { status: string }) => `Der Status ist bereits „${p.status}“.`,
+		'instrument-exists': (p: { equipment: string; tag: string }) => `${p.equipment} hat bereits die Messstelle ${p.tag}.`,
+		'invalid-fields': (p: { fields: string }) => `Bitte prüfen Sie diese Felder: ${p.fields}.`,
+		'due-before-calibration': 'Das nächste Fälligkeitsdatum liegt vor dem Kalibrierdatum.',
+		'invalid-input': 'Einige Eingaben haben nicht die erwartete Form.'
+	}
 };

@@ -91,7 +91,17 @@ export const cycles = {
 		passed: 'Within the limit',
 		failed: 'Above the limit',
 		none: 'No test recorded on this run.',
-		fitStats: (p: { n: number; r2: string }) => `least-squares fit of ${p.n} readings, R² ${p.r2}`
+		fitStats: (p: { n: number; r2: string }) => `least-squares fit of ${p.n} readings, R² ${p.r2}`,
+		/** Refusals of the leak-test service by code (LeakTestErrorCode), shown instead of the server's English. */
+		errors: {
+			'equipment-not-found': 'No such equipment.',
+			'no-leak-properties': (p: { equipment: string }) => `${p.equipment} has no chamber volume and leak-rate limit in the registry, so no leak rate can be computed.`,
+			'run-not-found': 'No such cycle run.',
+			'batch-closed': (p: { batch: string; status: string }) => `Batch ${p.batch} is closed (${p.status}): nothing more can be recorded on its runs.`,
+			'no-manometer': 'The run has no capacitance manometer channel to fit.',
+			'too-few-readings': 'Fewer than three manometer readings in the window: choose a longer window.',
+			'invalid-window': 'Give a window from 0 h on, with its end after its start.'
+		}
 	},
 	upload: {
 		title: 'Import a cycle log',

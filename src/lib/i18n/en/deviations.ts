@@ -80,7 +80,7 @@ export const deviations = {
 		'start-investigation': 'You sign that you reviewed the deviation as raised and begin its investigation.',
 		submit: 'You sign as author of the investigation, root cause and impact. You will not be able to approve its closure yourself.',
 		'send-back': 'The investigation returns for more work. Say what is missing.',
-		close: 'You approve the investigation and its conclusions (21 CFR 211.192). The person who submitted it cannot approve it.',
+		close: 'You approve the investigation and its conclusions (21 CFR 211.192). Nobody who wrote or submitted it, in any round, can approve it.',
 		cancel: 'For a deviation raised in error or twice. The reason is kept with the record.'
 	} as Record<string, string>,
 	subject: (p: { number: string; action: string }) => `Deviation ${p.number}: ${p.action}`,
@@ -116,13 +116,13 @@ export const deviations = {
 		raisedSubject: (p: { number: string; title: string }) => `Deviation ${p.number} raised: ${p.title}`,
 		raisedText: (p: { number: string; title: string; batch: string; by: string }) => `${p.by} raised deviation ${p.number} (${p.title}) on batch ${p.batch}. It waits for investigation.`,
 		awaitingSubject: (p: { number: string; title: string }) => `Deviation ${p.number} awaits QA approval: ${p.title}`,
-		awaitingText: (p: { number: string; title: string; batch: string; by: string }) => `${p.by} submitted the investigation of deviation ${p.number} (${p.title}, batch ${p.batch}) for QA approval. Whoever submitted it cannot approve it.`,
+		awaitingText: (p: { number: string; title: string; batch: string; by: string }) => `${p.by} submitted the investigation of deviation ${p.number} (${p.title}, batch ${p.batch}) for QA approval. Nobody who wrote or submitted it can approve it.`,
 		noBatch: 'none'
 	},
 	errors: {
 		'invalid-input': 'Some of the input is not in the expected form.',
 		forbidden: 'Your roles do not allow this.',
-		'own-submission': 'You submitted this investigation: another QA person must approve its closure.',
+		'own-submission': 'You took part in this investigation: another QA person must approve its closure.',
 		'not-found': 'No such deviation or batch.',
 		'wrong-state': 'This step is not possible in the deviation’s present state.',
 		'stale-version': 'Someone changed this deviation meanwhile. Reload, check and act again.',

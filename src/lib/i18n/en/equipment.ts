@@ -36,5 +36,16 @@ export const equipment = {
 		save: 'Save',
 		saved: 'Saved.'
 	},
-	problems: { 'out-of-service': 'out of service', 'cleaning-due': 'due for cleaning', 'calibration-overdue': 'calibration overdue' } as Record<string, string>
+	problems: { 'out-of-service': 'out of service', 'cleaning-due': 'due for cleaning', 'calibration-overdue': 'calibration overdue' } as Record<string, string>,
+	/** Refusals of the registry by code (EquipmentErrorCode) and of its forms' input, shown instead of the server's English. */
+	errors: {
+		'equipment-exists': (p: { equipment: string }) => `Equipment ${p.equipment} already exists.`,
+		'not-found': 'No such equipment.',
+		'instrument-not-found': 'No such instrument on this equipment.',
+		'same-status': (p: { status: string }) => `The status is already “${p.status}”.`,
+		'instrument-exists': (p: { equipment: string; tag: string }) => `${p.equipment} already has an instrument ${p.tag}.`,
+		'invalid-fields': (p: { fields: string }) => `Check these fields: ${p.fields}.`,
+		'due-before-calibration': 'The next due date is before the calibration date.',
+		'invalid-input': 'Some of the input is not in the expected form.'
+	}
 };

@@ -12,6 +12,7 @@ import { bumpBatchVersion } from '../batches/state';
 import { raiseDeviation } from '../deviations';
 import { runUnitOfWork, type UnitOfWork } from '../work';
 import { loadSeriesCached } from './series-store';
+import { messagesFor, type Locale } from '$lib/i18n';
 
 export const leakTestSchema = z.discriminatedUnion('method', [
 	/** least-squares fit of the run's capacitance manometer over the isolation period */
@@ -20,10 +21,64 @@ export const leakTestSchema = z.discriminatedUnion('method', [
 	z.object({ method: z.literal('entered'), deltaPmbar: z.number().nonnegative().max(1000), deltaTs: z.number().positive().max(86_400) })
 ]);
 
-export class LeakTestError extends Error {
-	constructor(message: string, readonly status: 400 | 404 | 409 | 422 = 422) {
+/**
+ * Why a leak test was refused, with what the words for it need (the page shows the catalogue's
+ * cycles.leak.errors[code] in the person's language; the English message is for logs and the API).
+ */
+export interface LeakTestErrorParams {
+	'equipment-not-found': Record<string, never>;
+	'no-leak-properties': { equipment: string };
+	'run-not-found': Record<string, never>;
+	'batch-closed': { batch: string; status: string };
+	'no-manometer': Record<string, never>;
+	'too-few-readings': Record<string, never>;
+	'invalid-window': Record<string, never>;
+}
+export type LeakTestErrorCode = keyof LeakTestErrorParams;
+export type LeakTestErrorStatus = 400 | 404 | 409 | 422;
+
+/** style.md: 400 bad input, 404 missing, 409 the record's state forbids it, 422 the data lacks what the test needs. */
+const leakStatusOf: Record<LeakTestErrorCode, LeakTestErrorStatus> = {
+	'equipment-not-found': 404,
+	'no-leak-properties': 409,
+	'run-not-found': 404,
+	'batch-closed': 409,
+	'no-manometer': 422,
+	'too-few-readings': 422,
+	'invalid-window': 400
+};
+
+export class LeakTestError<C extends LeakTestErrorCode = LeakTestErrorCode> extends Error {
+	readonly status: LeakTestErrorStatus;
+	constructor(
+		readonly code: C,
+		message: string,
+		readonly params: LeakTestErrorParams[C]
+	) {
 		super(message);
 		this.name = 'LeakTestError';
+		this.status = leakStatusOf[code];
+	}
+}
+
+/** A leak-test refusal as the union of its codes, so a switch on `code` narrows `params`. */
+export type AnyLeakTestError = { [C in LeakTestErrorCode]: LeakTestError<C> }[LeakTestErrorCode];
+
+export function isLeakTestError(err: unknown): err is AnyLeakTestError {
+	return err instanceof LeakTestError;
+}
+
+/** The words for a refusal in the person's language (catalogue cycles.leak.errors). */
+export function leakTestErrorText(err: AnyLeakTestError, locale: Locale): string {
+	const m = messagesFor(locale);
+	const words = m.cycles.leak.errors;
+	switch (err.code) {
+		case 'no-leak-properties':
+			return words['no-leak-properties'](err.params);
+		case 'batch-closed':
+			return words['batch-closed']({ batch: err.params.batch, status: (m.batches.status as Record<string, string | undefined>)[err.params.status] ?? err.params.status });
+		default:
+			return words[err.code];
 	}
 }
 
@@ -35,9 +90,9 @@ export class LeakTestError extends Error {
 export async function recordLeakTest(uow: UnitOfWork, equipmentId: string, input: z.input<typeof leakTestSchema>): Promise<LeakTest> {
 	const test = leakTestSchema.parse(input);
 	const [dryer] = await uow.tx.select().from(equipment).where(eq(equipment.id, equipmentId));
-	if (!dryer) throw new LeakTestError('No such equipment.', 404);
+	if (!dryer) throw new LeakTestError('equipment-not-found', 'No such equipment.', {});
 	const props = lyophilizerPropertiesSchema.safeParse(dryer.properties);
-	if (!props.success) throw new LeakTestError(`${dryer.code} has no chamber volume and leak-rate limit in the registry.`, 409);
+	if (!props.success) throw new LeakTestError('no-leak-properties', `${dryer.code} has no chamber volume and leak-rate limit in the registry.`, { equipment: dryer.code });
 	const { chamberVolumeL: volumeL, leakRateLimitMbarLPerS: limit } = props.data;
 	let rate: number;
 	let result: Record<string, unknown>;
@@ -45,21 +100,21 @@ export async function recordLeakTest(uow: UnitOfWork, equipmentId: string, input
 	let forBatch: { id: string; number: string; stepKey: string | null } | null = null;
 	if (test.method === 'fit') {
 		const [run] = await uow.tx.select({ id: cycleRun.id, equipmentId: cycleRun.equipmentId, batchId: cycleRun.batchId, stepKey: cycleRun.stepKey }).from(cycleRun).where(eq(cycleRun.id, test.runId));
-		if (!run || run.equipmentId !== equipmentId) throw new LeakTestError('No such run of this lyophilizer.', 404);
+		if (!run || run.equipmentId !== equipmentId) throw new LeakTestError('run-not-found', 'No such run of this lyophilizer.', {});
 		runId = run.id;
 		if (run.batchId) {
 			// A test on a batch's run is part of that batch record (REVIEW finding 11): lock the batch
 			// row so it cannot close meanwhile, and take it only while the batch is open, the same
 			// OPEN_BATCH_STATUSES rule as entries and run imports.
 			const [b] = await uow.tx.select({ id: batch.id, number: batch.number, status: batch.status }).from(batch).where(eq(batch.id, run.batchId)).for('update');
-			if (!b || !isBatchOpen(b.status)) throw new LeakTestError(`Batch ${b?.number ?? run.batchId} is ${b?.status ?? 'missing'}; nothing more can be recorded on its runs.`, 409);
+			if (!b || !isBatchOpen(b.status)) throw new LeakTestError('batch-closed', `Batch ${b?.number ?? run.batchId} is ${b?.status ?? 'missing'}; nothing more can be recorded on its runs.`, { batch: b?.number ?? run.batchId, status: b?.status ?? 'missing' });
 			forBatch = { id: b.id, number: b.number, stepKey: run.stepKey };
 		}
 		const series = await loadSeriesCached(uow.tx, run.id);
 		const manometer = series ? combineChannels(series, 'manometer', 'mean') : null;
-		if (!series || !manometer) throw new LeakTestError('The run has no capacitance manometer channel to fit.', 422);
+		if (!series || !manometer) throw new LeakTestError('no-manometer', 'The run has no capacitance manometer channel to fit.', {});
 		const points = selectLeakPoints(series.t, manometer, test.fromS, test.toS);
-		if (points.length < 3) throw new LeakTestError('Fewer than three manometer readings in the window.', 422);
+		if (points.length < 3) throw new LeakTestError('too-few-readings', 'Fewer than three manometer readings in the window.', {});
 		const fit = fitLeakRate(points, volumeL);
 		rate = fit.leakRateMbarLPerS;
 		result = { ...fit };
@@ -115,9 +170,9 @@ export async function recordLeakTest(uow: UnitOfWork, equipmentId: string, input
  */
 export async function recordRunLeakTest(db: Database, actor: Actor, runId: string, window: { fromS: number; toS: number }): Promise<LeakTest> {
 	const [run] = await db.select({ id: cycleRun.id, equipmentId: cycleRun.equipmentId }).from(cycleRun).where(eq(cycleRun.id, runId));
-	if (!run) throw new LeakTestError('No such run.', 404);
+	if (!run) throw new LeakTestError('run-not-found', 'No such run.', {});
 	const test = leakTestSchema.safeParse({ method: 'fit', runId: run.id, ...window });
-	if (!test.success) throw new LeakTestError(`The window is not valid: ${test.error.issues.map((i) => i.message).join('; ')}.`, 400);
+	if (!test.success) throw new LeakTestError('invalid-window', `The window is not valid: ${test.error.issues.map((i) => i.message).join('; ')}.`, {});
 	return runUnitOfWork(db, actor, (uow) => recordLeakTest(uow, run.equipmentId, test.data));
 }
 

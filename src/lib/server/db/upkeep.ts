@@ -1,5 +1,5 @@
 import { sql } from 'drizzle-orm';
-import type { DatabaseHandle, Executor } from './client';
+import type { Database, DatabaseHandle, Executor } from './client';
 import { pgliteClientOf, queryRows } from '../audit/rows';
 
 /**
@@ -60,32 +60,47 @@ export async function readTableSizes(db: Executor): Promise<TableSize[]> {
 
 export interface UpkeepReport {
 	tables: string[];
+	/** Milliseconds each table took, in `tables` order. */
+	tableMs: number[];
 	ms: number;
 }
 
 /**
- * VACUUM (ANALYZE) of the tables that are due (or of `tables`). Runs outside any transaction, as
- * VACUUM must; on PGlite it holds the one connection while it runs, so it is kept to due tables.
+ * VACUUM (ANALYZE) of the tables that are due (or of `tables`, or of all). Takes the database,
+ * never a transaction: VACUUM cannot run inside one. One statement per table, so that on PGlite,
+ * where VACUUM holds the one connection, requests waiting behind a large table get their turn
+ * before the next.
  */
-export async function runUpkeep(db: Executor, options: { tables?: string[]; all?: boolean } = {}): Promise<UpkeepReport> {
+export async function runUpkeep(db: Database, options: { tables?: string[]; all?: boolean } = {}): Promise<UpkeepReport> {
 	const started = performance.now();
 	const sizes = await readTableSizes(db);
 	const known = new Set(sizes.map((s) => s.table));
 	const tables = options.all ? [...known] : options.tables ? options.tables.filter((t) => known.has(t)) : sizes.filter(isTableDue).map((s) => s.table);
-	if (tables.length > 0) {
-		const list = tables.map(quoteIdent).join(', ');
-		const client = pgliteClientOf<{ exec(text: string): Promise<unknown> }>(db);
-		if (client) await client.exec(`VACUUM (ANALYZE) ${list}`);
-		else await db.execute(sql.raw(`VACUUM (ANALYZE) ${list}`));
+	const client = pgliteClientOf<{ exec(text: string): Promise<unknown> }>(db);
+	const tableMs: number[] = [];
+	for (const table of tables) {
+		const t0 = performance.now();
+		const statement = `VACUUM (ANALYZE) ${quoteIdent(table)}`;
+		if (client) await client.exec(statement);
+		else await db.execute(sql.raw(statement));
+		tableMs.push(performance.now() - t0);
 	}
-	return { tables, ms: performance.now() - started };
+	return { tables, tableMs, ms: performance.now() - started };
 }
 
 function quoteIdent(name: string): string {
 	return `"${name.replace(/"/g, '""')}"`;
 }
 
-const running = new WeakMap<object, { interval: ReturnType<typeof setInterval>; first: ReturnType<typeof setTimeout> }>();
+interface Schedule {
+	interval: ReturnType<typeof setInterval>;
+	first: ReturnType<typeof setTimeout>;
+	/** The run in progress, if any: stopping waits for it, so no VACUUM is left queued behind close(). */
+	current: Promise<UpkeepReport | null> | null;
+	stopped: boolean;
+}
+
+const running = new WeakMap<object, Schedule>();
 
 /**
  * Starts the upkeep timer for an embedded database (a PostgreSQL server has autovacuum; returns
@@ -95,33 +110,40 @@ const running = new WeakMap<object, { interval: ReturnType<typeof setInterval>; 
 export function startUpkeepSchedule(handle: DatabaseHandle, options: { checkMinutes?: number; firstAfterSeconds?: number } = {}): boolean {
 	if (handle.kind !== 'pglite') return false;
 	if (running.has(handle)) return true;
-	let busy = false;
-	const tick = async () => {
-		if (busy) return;
-		busy = true;
+	const run = async (): Promise<UpkeepReport | null> => {
 		try {
 			const report = await runUpkeep(handle.db);
-			if (report.tables.length > 0) console.log(`[db] upkeep: VACUUM (ANALYZE) of ${report.tables.join(', ')} in ${Math.round(report.ms)} ms`);
+			if (report.tables.length > 0) {
+				const each = report.tables.map((t, i) => `${t} ${Math.round(report.tableMs[i])} ms`).join(', ');
+				console.log(`[db] upkeep: VACUUM (ANALYZE) of ${each}`);
+			}
+			return report;
 		} catch (err) {
 			console.error('[db] upkeep failed:', err instanceof Error ? err.message : err);
-		} finally {
-			busy = false;
+			return null;
 		}
 	};
-	const interval = setInterval(tick, (options.checkMinutes ?? 10) * 60_000);
+	const tick = () => {
+		if (schedule.current || schedule.stopped) return;
+		schedule.current = run().finally(() => {
+			schedule.current = null;
+		});
+	};
 	// The first run waits a little, so a start-up with a large unanalysed ledger answers requests first.
-	const first = setTimeout(tick, (options.firstAfterSeconds ?? 60) * 1000);
-	interval.unref?.();
-	first.unref?.();
-	running.set(handle, { interval, first });
+	const schedule: Schedule = { interval: setInterval(tick, (options.checkMinutes ?? 10) * 60_000), first: setTimeout(tick, (options.firstAfterSeconds ?? 60) * 1000), current: null, stopped: false };
+	schedule.interval.unref?.();
+	schedule.first.unref?.();
+	running.set(handle, schedule);
 	return true;
 }
 
-export function stopUpkeepSchedule(handle: DatabaseHandle): void {
-	const timers = running.get(handle);
-	if (timers) {
-		clearInterval(timers.interval);
-		clearTimeout(timers.first);
-	}
+/** Stops the timer and waits for a run in progress (call before closing the database). */
+export async function stopUpkeepSchedule(handle: DatabaseHandle): Promise<void> {
+	const schedule = running.get(handle);
+	if (!schedule) return;
 	running.delete(handle);
+	schedule.stopped = true;
+	clearInterval(schedule.interval);
+	clearTimeout(schedule.first);
+	await schedule.current;
 }

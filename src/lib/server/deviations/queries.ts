@@ -1,4 +1,4 @@
-import { and, asc, count, desc, eq, ilike, isNull, notInArray, or, type SQL } from 'drizzle-orm';
+import { and, asc, count, desc, eq, ilike, inArray, isNull, notInArray, or, type SQL } from 'drizzle-orm';
 import { auditEvent, batch, deviation, signature, type Deviation, type Signature } from '../db/schema';
 import { listInvestigators, type DeviationClassification, type DeviationStatus } from '$lib/domain/deviation-lifecycle';
 import type { Executor } from '../db/client';
@@ -152,6 +152,6 @@ export async function investigatorsOf(db: Executor, id: string): Promise<string[
 	const events = await db
 		.select({ actorId: auditEvent.actorId, action: auditEvent.action, after: auditEvent.after })
 		.from(auditEvent)
-		.where(and(eq(auditEvent.entityType, 'deviation'), eq(auditEvent.entityId, id), or(eq(auditEvent.action, 'deviation.submit'), eq(auditEvent.action, 'deviation.edit'))));
+		.where(and(eq(auditEvent.entityType, 'deviation'), eq(auditEvent.entityId, id), inArray(auditEvent.action, ['deviation.raise', 'deviation.submit', 'deviation.edit'])));
 	return listInvestigators(events);
 }

@@ -80,9 +80,10 @@ const fieldLabels: Record<string, string> = { classification: 'classification', 
 
 /**
  * Turns a refusal of the rules into the error the routes map (403, 409, 422). `investigators`
- * (investigatorsOf) matters for closure only.
+ * (investigatorsOf) matters for closure only; it is required so that no caller of a closure can
+ * forget it and fall back to the submitter-only rule.
  */
-export function assertDeviationAction(user: SessionUser, row: Deviation, action: DeviationAction, reason?: string | null, investigators: readonly string[] = []): void {
+export function assertDeviationAction(user: SessionUser, row: Deviation, action: DeviationAction, reason: string | null | undefined, investigators: readonly string[]): void {
 	const r = checkDeviationAction(action, factsOf(row, investigators), { id: user.id, permissions: permissionsOfDeviationUser(user) }, { reason });
 	if (r.ok) return;
 	switch (r.reason) {
@@ -200,7 +201,7 @@ function normalise(key: (typeof editableKeys)[number], value: unknown): unknown 
  */
 export async function updateDeviation(db: Database, user: SessionUser, input: { id: string; expectedVersion: number; fields: DeviationFields }): Promise<{ id: string; version: number; changed: string[] }> {
 	const current = await findRow(db, input.id);
-	assertDeviationAction(user, current, 'edit');
+	assertDeviationAction(user, current, 'edit', undefined, []);
 	assertVersion(current, input.expectedVersion);
 	const plan = (row: Deviation) => {
 		const before: Record<string, unknown> = {};
@@ -220,7 +221,7 @@ export async function updateDeviation(db: Database, user: SessionUser, input: { 
 	return runUnitOfWork(db, actorOf(user), async (uow) => {
 		const row = await lockRow(uow.tx, input.id);
 		assertVersion(row, input.expectedVersion);
-		assertDeviationAction(user, row, 'edit');
+		assertDeviationAction(user, row, 'edit', undefined, []);
 		const { before, after } = plan(row);
 		const [updated] = await uow.tx
 			.update(deviation)

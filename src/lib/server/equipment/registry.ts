@@ -1,21 +1,101 @@
 import { randomUUID } from 'node:crypto';
 import { and, asc, desc, eq } from 'drizzle-orm';
-import { z } from 'zod';
+import { z, type ZodError } from 'zod';
 import { CHANNEL_ROLES, ROLE_UNITS } from '$lib/domain/lyo/series';
 import type { Actor } from '../audit/ledger';
 import type { Database, Executor } from '../db/client';
 import { equipment, equipmentEvent, equipmentStatus, instrument, type Equipment, type EquipmentEvent, type Instrument } from '../db/schema';
 import { runUnitOfWork, type UnitOfWork } from '../work';
+import { messagesFor, type Locale, type Messages } from '$lib/i18n';
 
-/** Expected refusals of the registry (unknown item, duplicate code ...), shown to the person. */
-export class EquipmentError extends Error {
+/**
+ * Expected refusals of the registry (unknown item, duplicate code ...), each with a stable code and
+ * what its words need: the page shows the catalogue's equipment.errors[code] in the person's
+ * language; the English message is for logs and the API.
+ */
+export interface EquipmentErrorParams {
+	'equipment-exists': { equipment: string };
+	'not-found': Record<string, never>;
+	'instrument-not-found': Record<string, never>;
+	'same-status': { status: string };
+	'instrument-exists': { equipment: string; tag: string };
+}
+export type EquipmentErrorCode = keyof EquipmentErrorParams;
+export type EquipmentErrorStatus = 400 | 404 | 409;
+
+/** style.md: 404 missing, 409 the registry's present state forbids it. */
+const equipmentStatusOf: Record<EquipmentErrorCode, EquipmentErrorStatus> = {
+	'equipment-exists': 409,
+	'not-found': 404,
+	'instrument-not-found': 404,
+	'same-status': 409,
+	'instrument-exists': 409
+};
+
+export class EquipmentError<C extends EquipmentErrorCode = EquipmentErrorCode> extends Error {
+	readonly status: EquipmentErrorStatus;
 	constructor(
+		readonly code: C,
 		message: string,
-		readonly status: 400 | 404 | 409 = 400
+		readonly params: EquipmentErrorParams[C]
 	) {
 		super(message);
 		this.name = 'EquipmentError';
+		this.status = equipmentStatusOf[code];
 	}
+}
+
+/** A registry refusal as the union of its codes, so a switch on `code` narrows `params`. */
+export type AnyEquipmentError = { [C in EquipmentErrorCode]: EquipmentError<C> }[EquipmentErrorCode];
+
+export function isEquipmentError(err: unknown): err is AnyEquipmentError {
+	return err instanceof EquipmentError;
+}
+
+/** The words for a refusal in the person's language (catalogue equipment.errors). */
+export function equipmentErrorText(err: AnyEquipmentError, locale: Locale): string {
+	const t = messagesFor(locale).equipment;
+	switch (err.code) {
+		case 'equipment-exists':
+			return t.errors['equipment-exists'](err.params);
+		case 'instrument-exists':
+			return t.errors['instrument-exists'](err.params);
+		case 'same-status':
+			return t.errors['same-status']({ status: t.status[err.params.status] ?? err.params.status });
+		default:
+			return t.errors[err.code];
+	}
+}
+
+/** The catalogue label of each field the equipment page's forms send (equipment.manage). */
+const fieldLabels: Record<string, keyof Messages['equipment']['manage']> = {
+	target: 'target',
+	status: 'newStatus',
+	calibratedOn: 'calibratedOn',
+	calibrationDueOn: 'dueOn',
+	reference: 'reference',
+	tag: 'tag',
+	name: 'name',
+	role: 'role',
+	reason: 'reason'
+};
+
+/**
+ * The words for input the schemas refuse, in the person's language: the fields by the labels the
+ * form shows them with, never zod's English. `fields` are the form's own field names.
+ */
+export function equipmentInputErrorText(err: ZodError, locale: Locale): { message: string; fields: string[] } {
+	const t = messagesFor(locale).equipment;
+	const fieldOf = (i: ZodError['issues'][number]) => String(i.path[0] ?? '');
+	// The one cross-field rule of the calibration forms: said as itself, not as "check the field".
+	const isDueBefore = (i: ZodError['issues'][number]) => i.code === 'custom' && fieldOf(i) === 'calibrationDueOn';
+	const fields = [...new Set(err.issues.map(fieldOf).filter(Boolean))];
+	const dueBefore = err.issues.some(isDueBefore);
+	const others = [...new Set(err.issues.filter((i) => !isDueBefore(i)).map(fieldOf).filter(Boolean))];
+	const parts: string[] = [];
+	if (dueBefore) parts.push(t.errors['due-before-calibration']);
+	if (others.length) parts.push(t.errors['invalid-fields']({ fields: others.map((f) => (fieldLabels[f] ? t.manage[fieldLabels[f]] : f)).join(', ') }));
+	return { message: parts.length ? parts.join(' ') : t.errors['invalid-input'], fields };
 }
 
 const isoDate = z.string().regex(/^\d{4}-\d{2}-\d{2}$/, 'a date as YYYY-MM-DD');
@@ -102,7 +182,7 @@ async function logEvent(uow: UnitOfWork, row: Omit<typeof equipmentEvent.$inferI
 export async function createEquipment(uow: UnitOfWork, input: z.input<typeof createEquipmentSchema>): Promise<Equipment> {
 	const e = createEquipmentSchema.parse(input);
 	const [clash] = await uow.tx.select({ id: equipment.id }).from(equipment).where(eq(equipment.code, e.code));
-	if (clash) throw new EquipmentError(`Equipment ${e.code} already exists.`, 409);
+	if (clash) throw new EquipmentError('equipment-exists', `Equipment ${e.code} already exists.`, { equipment: e.code });
 	const row = { id: randomUUID(), code: e.code, name: e.name, class: e.class, location: e.location, status: 'in-service' as const, calibratedOn: e.calibratedOn, calibrationDueOn: e.calibrationDueOn, properties: e.properties };
 	const [created] = await uow.tx.insert(equipment).values(row).returning();
 	await logEvent(uow, { equipmentId: row.id, kind: 'created', toStatus: 'in-service', calibratedOn: e.calibratedOn, calibrationDueOn: e.calibrationDueOn, reason: e.reason });
@@ -112,13 +192,13 @@ export async function createEquipment(uow: UnitOfWork, input: z.input<typeof cre
 
 async function requireEquipment(uow: UnitOfWork, id: string): Promise<Equipment> {
 	const row = await getEquipment(uow.tx, id);
-	if (!row) throw new EquipmentError('No such equipment.', 404);
+	if (!row) throw new EquipmentError('not-found', 'No such equipment.', {});
 	return row;
 }
 
 async function requireInstrument(uow: UnitOfWork, equipmentId: string, id: string): Promise<Instrument> {
 	const [row] = await uow.tx.select().from(instrument).where(and(eq(instrument.id, id), eq(instrument.equipmentId, equipmentId)));
-	if (!row) throw new EquipmentError('No such instrument on this equipment.', 404);
+	if (!row) throw new EquipmentError('instrument-not-found', 'No such instrument on this equipment.', {});
 	return row;
 }
 
@@ -127,7 +207,7 @@ export async function changeStatus(uow: UnitOfWork, equipmentId: string, instrum
 	const s = statusChangeSchema.parse(input);
 	const item = await requireEquipment(uow, equipmentId);
 	const before = instrumentId ? await requireInstrument(uow, equipmentId, instrumentId) : item;
-	if (before.status === s.status) throw new EquipmentError(`The status is already "${s.status}".`, 409);
+	if (before.status === s.status) throw new EquipmentError('same-status', `The status is already "${s.status}".`, { status: s.status });
 	if (instrumentId) await uow.tx.update(instrument).set({ status: s.status }).where(eq(instrument.id, instrumentId));
 	else await uow.tx.update(equipment).set({ status: s.status }).where(eq(equipment.id, equipmentId));
 	await logEvent(uow, { equipmentId, instrumentId, kind: 'status', fromStatus: before.status, toStatus: s.status, reason: s.reason });
@@ -165,7 +245,7 @@ export async function addInstrument(uow: UnitOfWork, equipmentId: string, input:
 	const i = instrumentSchema.parse(input);
 	const item = await requireEquipment(uow, equipmentId);
 	const [clash] = await uow.tx.select({ id: instrument.id }).from(instrument).where(and(eq(instrument.equipmentId, equipmentId), eq(instrument.tag, i.tag)));
-	if (clash) throw new EquipmentError(`${item.code} already has an instrument ${i.tag}.`, 409);
+	if (clash) throw new EquipmentError('instrument-exists', `${item.code} already has an instrument ${i.tag}.`, { equipment: item.code, tag: i.tag });
 	const row = {
 		id: randomUUID(),
 		equipmentId,

@@ -4,7 +4,16 @@ import type { Actions, PageServerLoad } from './$types';
 import { database } from '$lib/server/db';
 import { requirePermission } from '$lib/server/auth/guard';
 import { hasPermission } from '$lib/domain/permissions';
-import { applyEquipmentChange, EquipmentError, getEquipment, listEquipmentEvents, listInstruments, type EquipmentChange } from '$lib/server/equipment/registry';
+import {
+	applyEquipmentChange,
+	equipmentErrorText,
+	equipmentInputErrorText,
+	getEquipment,
+	isEquipmentError,
+	listEquipmentEvents,
+	listInstruments,
+	type EquipmentChange
+} from '$lib/server/equipment/registry';
 import { checkEquipmentUsableById, siteToday } from '$lib/server/equipment/usable';
 import { listRuns } from '$lib/server/cycles/runs';
 import { listMappings } from '$lib/server/cycles/mappings';
@@ -34,7 +43,10 @@ export const load = (async (event) => {
 
 type Form = Record<string, string>;
 
-/** Parses the form, applies one registry change: 400 with the message for an expected refusal. */
+/**
+ * Parses the form, applies one registry change: 404 or 400 with `{ code, message }` for an expected
+ * refusal, the message from the catalogue in the person's language (the English stays in the error).
+ */
 async function act(event: Parameters<Actions[string]>[0], changeOf: (form: Form) => EquipmentChange) {
 	const user = requirePermission(event, 'equipment.manage');
 	const form = Object.fromEntries([...(await event.request.formData()).entries()].map(([k, v]) => [k, String(v)])) as Form;
@@ -42,8 +54,8 @@ async function act(event: Parameters<Actions[string]>[0], changeOf: (form: Form)
 		await applyEquipmentChange(database.db, { id: user.id, name: user.name }, event.params.id, changeOf(form));
 		return { saved: true };
 	} catch (e) {
-		if (e instanceof EquipmentError) return fail(e.status === 404 ? 404 : 400, { message: e.message });
-		if (e instanceof ZodError) return fail(400, { message: e.issues.map((i) => `${i.path.join('.') || 'form'}: ${i.message}`).join('; ') });
+		if (isEquipmentError(e)) return fail(e.status === 404 ? 404 : 400, { code: `equipment.${e.code}`, message: equipmentErrorText(e, event.locals.locale), fields: [] as string[] });
+		if (e instanceof ZodError) return fail(400, { code: 'equipment.invalid-input', ...equipmentInputErrorText(e, event.locals.locale) });
 		throw e;
 	}
 }

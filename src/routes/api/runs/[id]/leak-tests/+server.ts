@@ -3,7 +3,7 @@ import { z } from 'zod';
 import type { RequestHandler } from './$types';
 import { requirePermission } from '$lib/server/auth/guard';
 import { database } from '$lib/server/db';
-import { LeakTestError, listLeakTests, recordRunLeakTest } from '$lib/server/cycles/leak';
+import { isLeakTestError, listLeakTests, recordRunLeakTest } from '$lib/server/cycles/leak';
 import { describeRunError, readJsonBody } from '$lib/server/cycles/upload';
 
 const bodySchema = z.object({ fromS: z.number(), toS: z.number() });
@@ -23,7 +23,7 @@ export const POST: RequestHandler = async (event) => {
 		const test = await recordRunLeakTest(database.db, { id: user.id, name: user.name }, event.params.id, body.data);
 		return json(test, { status: 201 });
 	} catch (e) {
-		if (e instanceof LeakTestError) return json({ message: e.message }, { status: e.status });
+		if (isLeakTestError(e)) return json({ message: e.message, code: e.code }, { status: e.status });
 		const refusal = describeRunError(e);
 		if (refusal) return json(refusal.body, { status: refusal.status });
 		throw e;
