@@ -76,7 +76,10 @@ export interface Run {
 	font: PDFFont;
 }
 
-const coverage = new Map<PDFFont, Set<number>>();
+// Keyed weakly: each rendered PDF embeds its own PDFFont objects, which hold their whole
+// document. A Map here kept every PDF ever rendered alive (found by the 300-run hostile soak, which
+// ran the process out of heap after about 11 minutes of audit-report renders).
+const coverage = new WeakMap<PDFFont, Set<number>>();
 
 function covers(font: PDFFont, cp: number): boolean {
 	let set = coverage.get(font);
