@@ -8,8 +8,10 @@
  */
 import { describe, expect, it } from 'vitest';
 import { z } from 'zod';
-import { LeakTestError, leakTestErrorText, type AnyLeakTestError, type LeakTestErrorCode } from '$lib/server/cycles/leak';
-import { calibrationSchema, EquipmentError, equipmentErrorText, equipmentInputErrorText, instrumentSchema, statusChangeSchema, type AnyEquipmentError, type EquipmentErrorCode } from '$lib/server/equipment/registry';
+import { LeakTestError, type AnyLeakTestError, type LeakTestErrorCode } from '$lib/server/cycles/leak';
+import { leakTestErrorText } from '$lib/server/cycles/http';
+import { calibrationSchema, EquipmentError, instrumentSchema, statusChangeSchema, type AnyEquipmentError, type EquipmentErrorCode } from '$lib/server/equipment/registry';
+import { equipmentErrorText, equipmentInputErrorText } from '$lib/server/equipment/http';
 
 const leakCases: { code: LeakTestErrorCode; status: number; params: Record<string, string>; shown: string[] }[] = [
 	{ code: 'equipment-not-found', status: 404, params: {}, shown: [] },

@@ -12,7 +12,6 @@ import { bumpBatchVersion } from '../batches/state';
 import { raiseDeviation } from '../deviations';
 import { runUnitOfWork, type UnitOfWork } from '../work';
 import { loadSeriesCached } from './series-store';
-import { messagesFor, type Locale } from '$lib/i18n';
 
 export const leakTestSchema = z.discriminatedUnion('method', [
 	/** least-squares fit of the run's capacitance manometer over the isolation period */
@@ -23,7 +22,7 @@ export const leakTestSchema = z.discriminatedUnion('method', [
 
 /**
  * Why a leak test was refused, with what the words for it need (the page shows the catalogue's
- * cycles.leak.errors[code] in the person's language; the English message is for logs and the API).
+ * cycles.leak.errors[code] in the person's language, ./http.ts; the English message is for logs and the API).
  */
 export interface LeakTestErrorParams {
 	'equipment-not-found': Record<string, never>;
@@ -68,19 +67,6 @@ export function isLeakTestError(err: unknown): err is AnyLeakTestError {
 	return err instanceof LeakTestError;
 }
 
-/** The words for a refusal in the person's language (catalogue cycles.leak.errors). */
-export function leakTestErrorText(err: AnyLeakTestError, locale: Locale): string {
-	const m = messagesFor(locale);
-	const words = m.cycles.leak.errors;
-	switch (err.code) {
-		case 'no-leak-properties':
-			return words['no-leak-properties'](err.params);
-		case 'batch-closed':
-			return words['batch-closed']({ batch: err.params.batch, status: (m.batches.status as Record<string, string | undefined>)[err.params.status] ?? err.params.status });
-		default:
-			return words[err.code];
-	}
-}
 
 /**
  * Evaluates and records a pressure-rise (leak) test of a lyophilizer against its own limit:

@@ -134,17 +134,19 @@ export async function getDeviation(db: Executor, id: string): Promise<DeviationD
 		.leftJoin(batch, eq(batch.id, deviation.batchId))
 		.where(eq(deviation.id, id));
 	if (!row) return null;
-	const events = await db
-		.select({ seq: auditEvent.seq, at: auditEvent.at, actorName: auditEvent.actorName, action: auditEvent.action, before: auditEvent.before, after: auditEvent.after, reason: auditEvent.reason })
+	const rows = await db
+		.select({ seq: auditEvent.seq, at: auditEvent.at, actorId: auditEvent.actorId, actorName: auditEvent.actorName, action: auditEvent.action, before: auditEvent.before, after: auditEvent.after, reason: auditEvent.reason })
 		.from(auditEvent)
 		.where(and(eq(auditEvent.entityType, 'deviation'), eq(auditEvent.entityId, id)))
 		.orderBy(asc(auditEvent.seq));
+	// The history shows names, not account ids; the ids only decide who investigated.
+	const events: DeviationHistoryEvent[] = rows.map(({ actorId: _actorId, ...e }) => e);
 	const signatures = await db
 		.select()
 		.from(signature)
 		.where(and(eq(signature.entityType, 'deviation'), eq(signature.entityId, id)))
 		.orderBy(asc(signature.at), asc(signature.auditSeq));
-	return { ...row.d, batchNumber: row.batchNumber, batchStatus: row.batchStatus, events, signatures, investigators: await investigatorsOf(db, id) };
+	return { ...row.d, batchNumber: row.batchNumber, batchStatus: row.batchStatus, events, signatures, investigators: listInvestigators(rows) };
 }
 
 /** Who took part in a deviation's investigation, read from its audit events (listInvestigators). */

@@ -1,17 +1,16 @@
 import { randomUUID } from 'node:crypto';
 import { and, asc, desc, eq } from 'drizzle-orm';
-import { z, type ZodError } from 'zod';
+import { z } from 'zod';
 import { CHANNEL_ROLES, ROLE_UNITS } from '$lib/domain/lyo/series';
 import type { Actor } from '../audit/ledger';
 import type { Database, Executor } from '../db/client';
 import { equipment, equipmentEvent, equipmentStatus, instrument, type Equipment, type EquipmentEvent, type Instrument } from '../db/schema';
 import { runUnitOfWork, type UnitOfWork } from '../work';
-import { messagesFor, type Locale, type Messages } from '$lib/i18n';
 
 /**
  * Expected refusals of the registry (unknown item, duplicate code ...), each with a stable code and
  * what its words need: the page shows the catalogue's equipment.errors[code] in the person's
- * language; the English message is for logs and the API.
+ * language (./http.ts); the English message is for logs and the API.
  */
 export interface EquipmentErrorParams {
 	'equipment-exists': { equipment: string };
@@ -50,52 +49,6 @@ export type AnyEquipmentError = { [C in EquipmentErrorCode]: EquipmentError<C> }
 
 export function isEquipmentError(err: unknown): err is AnyEquipmentError {
 	return err instanceof EquipmentError;
-}
-
-/** The words for a refusal in the person's language (catalogue equipment.errors). */
-export function equipmentErrorText(err: AnyEquipmentError, locale: Locale): string {
-	const t = messagesFor(locale).equipment;
-	switch (err.code) {
-		case 'equipment-exists':
-			return t.errors['equipment-exists'](err.params);
-		case 'instrument-exists':
-			return t.errors['instrument-exists'](err.params);
-		case 'same-status':
-			return t.errors['same-status']({ status: t.status[err.params.status] ?? err.params.status });
-		default:
-			return t.errors[err.code];
-	}
-}
-
-/** The catalogue label of each field the equipment page's forms send (equipment.manage). */
-const fieldLabels: Record<string, keyof Messages['equipment']['manage']> = {
-	target: 'target',
-	status: 'newStatus',
-	calibratedOn: 'calibratedOn',
-	calibrationDueOn: 'dueOn',
-	reference: 'reference',
-	tag: 'tag',
-	name: 'name',
-	role: 'role',
-	reason: 'reason'
-};
-
-/**
- * The words for input the schemas refuse, in the person's language: the fields by the labels the
- * form shows them with, never zod's English. `fields` are the form's own field names.
- */
-export function equipmentInputErrorText(err: ZodError, locale: Locale): { message: string; fields: string[] } {
-	const t = messagesFor(locale).equipment;
-	const fieldOf = (i: ZodError['issues'][number]) => String(i.path[0] ?? '');
-	// The one cross-field rule of the calibration forms: said as itself, not as "check the field".
-	const isDueBefore = (i: ZodError['issues'][number]) => i.code === 'custom' && fieldOf(i) === 'calibrationDueOn';
-	const fields = [...new Set(err.issues.map(fieldOf).filter(Boolean))];
-	const dueBefore = err.issues.some(isDueBefore);
-	const others = [...new Set(err.issues.filter((i) => !isDueBefore(i)).map(fieldOf).filter(Boolean))];
-	const parts: string[] = [];
-	if (dueBefore) parts.push(t.errors['due-before-calibration']);
-	if (others.length) parts.push(t.errors['invalid-fields']({ fields: others.map((f) => (fieldLabels[f] ? t.manage[fieldLabels[f]] : f)).join(', ') }));
-	return { message: parts.length ? parts.join(' ') : t.errors['invalid-input'], fields };
 }
 
 const isoDate = z.string().regex(/^\d{4}-\d{2}-\d{2}$/, 'a date as YYYY-MM-DD');

@@ -1,4 +1,4 @@
-import { error, fail } from '@sveltejs/kit';
+import { error } from '@sveltejs/kit';
 import type { Actions, PageServerLoad } from './$types';
 import { database } from '$lib/server/db';
 import { requirePermission } from '$lib/server/auth/guard';
@@ -8,8 +8,8 @@ import { buildChartOverlay } from '$lib/domain/lyo/overlay';
 import { planPhaseDurations } from '$lib/domain/lyo/recipe';
 import { getRun } from '$lib/server/cycles/runs';
 import { loadSeriesCached } from '$lib/server/cycles/series-store';
-import { isLeakTestError, leakTestErrorText, listLeakTests, recordRunLeakTest } from '$lib/server/cycles/leak';
-import { messagesFor } from '$lib/i18n';
+import { listLeakTests, recordRunLeakTest } from '$lib/server/cycles/leak';
+import { invalidWindow, leakTestFailure } from '$lib/server/cycles/http';
 import { getEquipment, lyophilizerPropertiesSchema } from '$lib/server/equipment/registry';
 
 export const load = (async (event) => {
@@ -64,17 +64,12 @@ export const actions = {
 		const form = await event.request.formData();
 		const fromS = Number(form.get('fromH')) * 3600;
 		const toS = Number(form.get('toH')) * 3600;
-		if (!Number.isFinite(fromS) || !Number.isFinite(toS) || !(toS > fromS)) {
-			return fail(400, { code: 'leak-test.invalid-window', message: messagesFor(event.locals.locale).cycles.leak.errors['invalid-window'] });
-		}
+		if (!Number.isFinite(fromS) || !Number.isFinite(toS) || !(toS > fromS)) return leakTestFailure(invalidWindow(), event.locals.locale);
 		try {
 			await recordRunLeakTest(database.db, { id: user.id, name: user.name }, event.params.id, { fromS, toS });
 			return { saved: true };
 		} catch (e) {
-			// The person's language from the catalogue; the English e.message stays for logs and the API.
-			// Prefixed like the deviation pages' codes, so no other area's words are taken for it.
-			if (isLeakTestError(e)) return fail(e.status === 404 ? 404 : 400, { code: `leak-test.${e.code}`, message: leakTestErrorText(e, event.locals.locale) });
-			throw e;
+			return leakTestFailure(e, event.locals.locale);
 		}
 	}
 } satisfies Actions;

@@ -1,19 +1,10 @@
-import { error, fail } from '@sveltejs/kit';
-import { ZodError } from 'zod';
+import { error } from '@sveltejs/kit';
 import type { Actions, PageServerLoad } from './$types';
 import { database } from '$lib/server/db';
 import { requirePermission } from '$lib/server/auth/guard';
 import { hasPermission } from '$lib/domain/permissions';
-import {
-	applyEquipmentChange,
-	equipmentErrorText,
-	equipmentInputErrorText,
-	getEquipment,
-	isEquipmentError,
-	listEquipmentEvents,
-	listInstruments,
-	type EquipmentChange
-} from '$lib/server/equipment/registry';
+import { applyEquipmentChange, getEquipment, listEquipmentEvents, listInstruments, type EquipmentChange } from '$lib/server/equipment/registry';
+import { equipmentFailure } from '$lib/server/equipment/http';
 import { checkEquipmentUsableById, siteToday } from '$lib/server/equipment/usable';
 import { listRuns } from '$lib/server/cycles/runs';
 import { listMappings } from '$lib/server/cycles/mappings';
@@ -54,9 +45,7 @@ async function act(event: Parameters<Actions[string]>[0], changeOf: (form: Form)
 		await applyEquipmentChange(database.db, { id: user.id, name: user.name }, event.params.id, changeOf(form));
 		return { saved: true };
 	} catch (e) {
-		if (isEquipmentError(e)) return fail(e.status === 404 ? 404 : 400, { code: `equipment.${e.code}`, message: equipmentErrorText(e, event.locals.locale), fields: [] as string[] });
-		if (e instanceof ZodError) return fail(400, { code: 'equipment.invalid-input', ...equipmentInputErrorText(e, event.locals.locale) });
-		throw e;
+		return equipmentFailure(e, event.locals.locale);
 	}
 }
 
